@@ -1,0 +1,293 @@
+"""The ``seismo`` command line: a thin layer over the library.
+
+Exit status: 0 success; 1 when at least one input could not be analysed;
+2 for usage errors; 3 for an unexpected internal error.
+"""
+
+from __future__ import annotations
+
+import argparse
+import json
+import sys
+import warnings
+from collections.abc import Sequence
+from pathlib import Path
+from typing import Any
+
+from . import __version__
+from .errors import OptionError, SeismoError
+
+__all__ = ["main", "build_parser", "LIGHTCURVE_SUFFIXES"]
+
+#: File suffixes taken as light curves when a folder is given.
+LIGHTCURVE_SUFFIXES = (".fits", ".fit", ".fts", ".fits.gz", ".csv", ".ecsv", ".txt", ".dat")
+
+EXIT_OK, EXIT_INPUT, EXIT_USAGE, EXIT_INTERNAL = 0, 1, 2, 3
+
+
+def _add_read_options(parser: argparse.ArgumentParser) -> None:
+    from .lightcurve.readers import FLUX_UNITS
+
+    group = parser.add_argument_group("reading")
+    group.add_argument("--format", default="auto",
+                       choices=["auto", "fits", "ecsv", "csv", "text"],
+                       help="input format (default: sniffed from the file)")
+    group.add_argument("--time-column", help="name of the time column, if detection fails")
+    group.add_argument("--flux-column", help="name of the flux column, if detection fails")
+    group.add_argument("--error-column", help="name of the flux-error column")
+    group.add_argument("--quality-column", help="name of the quality-flag column")
+    group.add_argument("--quality-bitmask", type=int, default=None, metavar="INT",
+                       help="drop rows whose quality has any of these bits set "
+                            "(default: drop every non-zero quality; 0 keeps all rows)")
+    group.add_argument("--flux-unit", default="auto", choices=list(FLUX_UNITS),
+                       help="how to interpret the flux (default: inferred and reported)")
+    group.add_argument("--time-unit", default="auto", choices=["auto", "d", "h", "min", "s"],
+                       help="unit of the time column (default: the file's unit, else days)")
+    group.add_argument("--hdu", help="FITS extension (name or index) holding the light curve")
+    group.add_argument("--id", dest="star_id", help="star identifier to record")
+
+
+def _add_condition_options(parser: argparse.ArgumentParser) -> None:
+    group = parser.add_argument_group("conditioning")
+    group.add_argument("--gap-days", type=float, default=0.5, metavar="D",
+                       help="start a new segment at gaps longer than D days (default 0.5)")
+    group.add_argument("--clip-sigma", type=float, default=5.0, metavar="K",
+                       help="clip points K robust sigmas from a running median; 0 disables "
+                            "(default 5)")
+    group.add_argument("--highpass", type=float, default=3.0, metavar="UHZ",
+                       help="remove trends; signal above UHZ μHz keeps 99%% of its amplitude; "
+                            "0 disables (default 3)")
+    group.add_argument("--min-points", type=int, default=300, metavar="N",
+                       help="fewest valid points accepted (default 300)")
+    group.add_argument("--min-baseline", type=float, default=3.0, metavar="D",
+                       help="shortest accepted time span in days (default 3)")
+
+
+def _add_spectrum_options(parser: argparse.ArgumentParser) -> None:
+    group = parser.add_argument_group("spectrum")
+    group.add_argument("--method", default="auto",
+                       choices=["auto", "fft", "nufft", "lombscargle", "direct"],
+                       help="transform (default: fft on a regular cadence grid, else nufft)")
+    group.add_argument("--oversample", type=float, default=1.0, metavar="X",
+                       help="frequency grid finer than 1/T by this factor (default 1)")
+    group.add_argument("--fmax", type=float, default=None, metavar="UHZ",
+                       help="highest frequency in μHz (default Nyquist)")
+
+
+def build_parser() -> argparse.ArgumentParser:
+    """Return the argument parser of the ``seismo`` command."""
+    parser = argparse.ArgumentParser(
+        prog="seismo",
+        description="Red-giant asteroseismology from raw light curves.",
+    )
+    parser.add_argument("--version", action="version", version=f"seismo {__version__}")
+    sub = parser.add_subparsers(dest="command", metavar="COMMAND")
+
+    analyze = sub.add_parser(
+        "analyze", help="analyse light curves (files or folders)",
+        description="Read, condition and transform light curves; print a summary and "
+                    "optionally write vetting figures.",
+    )
+    analyze.add_argument("inputs", nargs="+", metavar="PATH",
+                         help="light-curve file(s), or folders searched for "
+                              + ", ".join(LIGHTCURVE_SUFFIXES))
+    analyze.add_argument("--plot", metavar="DIR", help="write one figure per star into DIR")
+    analyze.add_argument("--json", action="store_true",
+                         help="print one JSON object per star instead of the summary")
+    analyze.add_argument("--debug", action="store_true",
+                         help="show the traceback of unexpected errors")
+    _add_read_options(analyze)
+    _add_condition_options(analyze)
+    _add_spectrum_options(analyze)
+
+    simulate = sub.add_parser(
+        "simulate", help="write a synthetic red-giant light curve with its truth",
+        description="Simulate a red giant (stochastic modes, granulation, noise, instrument) "
+                    "and write the light curve with a .truth.json beside it.",
+    )
+    from .simulate import OBSERVATIONS, PRESETS
+
+    simulate.add_argument("output", metavar="FILE",
+                          help="output file: .fits, .csv or .txt (truth written beside it)")
+    simulate.add_argument("--preset", default="rgb-low", choices=sorted(PRESETS),
+                          help="kind of star (default rgb-low)")
+    simulate.add_argument("--observation", default="long-cadence-4yr",
+                          choices=sorted(OBSERVATIONS),
+                          help="cadence and window (default long-cadence-4yr)")
+    simulate.add_argument("--seed", type=int, default=None, help="random seed")
+    simulate.add_argument("--id", dest="star_id", help="star identifier")
+    simulate.add_argument("--numax", type=float, help="frequency of maximum power, μHz")
+    simulate.add_argument("--dnu", type=float, help="large frequency separation, μHz")
+    simulate.add_argument("--dpi1", type=float, help="dipole period spacing, s")
+    simulate.add_argument("--q", type=float, help="mixed-mode coupling factor")
+    simulate.add_argument("--rot-core", type=float, help="core rotational splitting, μHz")
+    simulate.add_argument("--inclination", type=float, help="inclination, degrees")
+    simulate.add_argument("--white-noise", type=float, help="white noise per cadence, ppm")
+    simulate.add_argument("--duration", type=float, help="observing span, days")
+    simulate.add_argument("--no-oscillations", action="store_true",
+                          help="granulation and noise only")
+    return parser
+
+
+class _UsageError(Exception):
+    pass
+
+
+def _collect_inputs(paths: Sequence[str]) -> list[Path]:
+    found: list[Path] = []
+    for raw in paths:
+        path = Path(raw)
+        if path.is_dir():
+            files = sorted(
+                p for p in path.rglob("*")
+                if p.is_file() and any(p.name.lower().endswith(s) for s in LIGHTCURVE_SUFFIXES)
+            )
+            if not files:
+                raise _UsageError(f"{path}: folder holds no light-curve files "
+                                  f"({', '.join(LIGHTCURVE_SUFFIXES)})")
+            found.extend(files)
+        else:
+            found.append(path)
+    return found
+
+
+def _config_from_args(args: argparse.Namespace) -> Any:
+    from .config import AnalysisConfig, SpectrumOptions
+    from .lightcurve import ConditionOptions, ReadOptions
+
+    hdu: int | str | None = args.hdu
+    if isinstance(hdu, str) and hdu.isdigit():
+        hdu = int(hdu)
+    return AnalysisConfig(
+        read=ReadOptions(
+            format=args.format, time_column=args.time_column, flux_column=args.flux_column,
+            error_column=args.error_column, quality_column=args.quality_column,
+            quality_bitmask=args.quality_bitmask, flux_unit=args.flux_unit,
+            time_unit=args.time_unit, hdu=hdu, star_id=args.star_id,
+        ),
+        condition=ConditionOptions(
+            gap_days=args.gap_days, clip_sigma=args.clip_sigma, highpass_uhz=args.highpass,
+            min_points=args.min_points, min_baseline_days=args.min_baseline,
+        ),
+        spectrum=SpectrumOptions(method=args.method, oversample=args.oversample, fmax=args.fmax),
+    )
+
+
+def _human_summary(s: dict[str, Any], figure: Path | None) -> str:
+    lines = [
+        f"{s['id']}  ({s['source']}, {s['format']}; flux read as {s['flux_assumed']})",
+        f"  points   {s['n_points']:,} kept of {s['n_rows']:,} rows "
+        f"(flagged {s['n_flagged_dropped']:,}, non-finite {s['n_nonfinite_dropped']:,}, "
+        f"outliers {s['n_outliers_clipped']:,}, merged {s['n_duplicates_merged']:,}); "
+        f"{s['n_segments']} segments",
+        f"  span     {s['baseline_days']:.2f} d at {s['cadence_min']:.3g}-min cadence; "
+        f"Nyquist {s['nyquist_uhz']:.2f} μHz, resolution {s['resolution_uhz']:.4g} μHz",
+        f"  signal   rms {s['rms_ppm']:.4g} ppm after removing trends below "
+        f"{s['highpass_uhz']:g} μHz; spectrum by {s['spectrum_method']}",
+    ]
+    if figure is not None:
+        lines.append(f"  figure   {figure}")
+    return "\n".join(lines)
+
+
+def _run_analyze(args: argparse.Namespace) -> int:
+    from .pipeline import prepare, summarize
+
+    config = _config_from_args(args)
+    inputs = _collect_inputs(args.inputs)
+    status = EXIT_OK
+    for path in inputs:
+        with warnings.catch_warnings(record=True) as caught:
+            warnings.simplefilter("always")
+            try:
+                prepared = prepare(path, config)
+                summary = summarize(prepared)
+                figure = None
+                if args.plot:
+                    from .plots import plot_lightcurve_spectrum
+
+                    name = str(summary["id"] or path.stem).replace("/", "_")
+                    figure = plot_lightcurve_spectrum(
+                        prepared.lightcurve, prepared.spectrum, Path(args.plot) / f"{name}.png"
+                    )
+            except SeismoError as err:
+                err.with_path(str(path))
+                print(f"seismo: error: {err.one_line()}", file=sys.stderr)
+                status = EXIT_INPUT
+                continue
+            except Exception as exc:
+                if args.debug:
+                    raise
+                print(f"seismo: internal error on {path}: {type(exc).__name__}: {exc} "
+                      "(rerun with --debug for details, and please report it)", file=sys.stderr)
+                status = max(status, EXIT_INTERNAL)
+                continue
+        for w in caught:
+            print(f"seismo: note: {w.message}", file=sys.stderr)
+        if args.json:
+            print(json.dumps(summary, default=str))
+        else:
+            print(_human_summary(summary, figure))
+    return status
+
+
+def _run_simulate(args: argparse.Namespace) -> int:
+    from dataclasses import replace
+
+    from .simulate import OBSERVATIONS, PRESETS, simulate, write_simulation
+
+    star = PRESETS[args.preset]
+    changes = {
+        name: getattr(args, attr)
+        for name, attr in (
+            ("numax", "numax"), ("dnu", "dnu"), ("dpi1", "dpi1"), ("q", "q"),
+            ("rot_core", "rot_core"), ("inclination", "inclination"),
+            ("white_noise", "white_noise"), ("id", "star_id"),
+        )
+        if getattr(args, attr) is not None
+    }
+    if args.no_oscillations:
+        changes["oscillations"] = False
+    star = replace(star, **changes)
+    observation = OBSERVATIONS[args.observation]
+    if args.duration is not None:
+        observation = replace(observation, duration=args.duration)
+    output = Path(args.output)
+    sim = simulate(star, observation, rng=args.seed)
+    written = write_simulation(sim, output)
+    for path in written if isinstance(written, list | tuple) else [written]:
+        print(f"wrote {path}")
+    return EXIT_OK
+
+
+def main(argv: Sequence[str] | None = None) -> int:
+    """Run the command line.
+
+    Parameters
+    ----------
+    argv : sequence of str, optional
+        Arguments (default ``sys.argv[1:]``).
+
+    Returns
+    -------
+    int
+        Exit status.
+    """
+    parser = build_parser()
+    args = parser.parse_args(argv)
+    if args.command is None:
+        parser.print_help()
+        return EXIT_USAGE
+    try:
+        if args.command == "analyze":
+            return _run_analyze(args)
+        return _run_simulate(args)
+    except _UsageError as err:
+        print(f"seismo: error: {err}", file=sys.stderr)
+        return EXIT_USAGE
+    except (OptionError, SeismoError) as err:
+        print(f"seismo: error: {err.one_line()}", file=sys.stderr)
+        return EXIT_USAGE if isinstance(err, OptionError) else EXIT_INPUT
+    except KeyboardInterrupt:
+        print("seismo: interrupted", file=sys.stderr)
+        return 130
