@@ -34,7 +34,8 @@ Methods (one registry, same signature):
 from __future__ import annotations
 
 from collections.abc import Callable
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
+from functools import cached_property
 from typing import Any
 
 import numpy as np
@@ -77,11 +78,15 @@ class PowerSpectrum:
         Ratio of ``resolution`` to the grid spacing.
     method : str
         Kernel used (``fft``, ``nufft``, ``lombscargle`` or ``direct``).
-    window_freq, window_power : ndarray, shape (n_window,)
-        Spectral window: frequency offset from a pure sinusoid, μHz, and
-        its power normalised to 1 at zero offset.
     meta : dict
         ``n_points``, ``variance`` (ppm²), ``cadence_s``, the light-curve id.
+    sample_times : ndarray, shape (n_points,)
+        Sorted sample times, days (kept for the spectral window).
+    window_extent : float
+        Half-width of the tabulated spectral window, μHz.
+    window_freq, window_power : ndarray, shape (n_window,)
+        Spectral window (computed on first access): frequency offset from a
+        pure sinusoid, μHz, and its power normalised to 1 at zero offset.
     """
 
     freq: np.ndarray
@@ -90,9 +95,23 @@ class PowerSpectrum:
     resolution: float
     oversample: float
     method: str
-    window_freq: np.ndarray = field(default_factory=lambda: np.zeros(0))
-    window_power: np.ndarray = field(default_factory=lambda: np.zeros(0))
     meta: dict[str, Any] = field(default_factory=dict)
+    sample_times: np.ndarray = field(default_factory=lambda: np.zeros(0), repr=False)
+    window_extent: float = 5.0
+
+    @cached_property
+    def _window(self) -> tuple[np.ndarray, np.ndarray]:
+        return _spectral_window(self.sample_times, self.df, self.window_extent, self.method)
+
+    @property
+    def window_freq(self) -> np.ndarray:
+        """Offsets of the tabulated spectral window, μHz (computed on first use)."""
+        return self._window[0]
+
+    @property
+    def window_power(self) -> np.ndarray:
+        """Spectral window power at `window_freq`, normalised to 1 at zero offset."""
+        return self._window[1]
 
     @property
     def df(self) -> float:
@@ -102,17 +121,8 @@ class PowerSpectrum:
     def band(self, fmin: float, fmax: float) -> PowerSpectrum:
         """Return the part of the spectrum with ``fmin <= freq <= fmax`` (μHz)."""
         keep = (self.freq >= fmin) & (self.freq <= fmax)
-        return PowerSpectrum(
-            self.freq[keep],
-            self.density[keep],
-            self.nyquist,
-            self.resolution,
-            self.oversample,
-            self.method,
-            self.window_freq,
-            self.window_power,
-            dict(self.meta),
-        )
+        return replace(self, freq=self.freq[keep], density=self.density[keep],
+                       meta=dict(self.meta))
 
     def integral(self, fmin: float = 0.0, fmax: float | None = None) -> float:
         """Integrated power between ``fmin`` and ``fmax`` (μHz), ppm².
@@ -153,22 +163,27 @@ def cadence_grid(
     t = np.asarray(time_days, dtype=np.float64)
     if t.size < 3:
         return None
-    steps = np.diff(t)
-    positive = steps[steps > 0]
-    if positive.size == 0:
+    dt = _typical_step(t)
+    if not dt > 0:
         return None
-    dt = float(np.median(positive))
     rel = t - t[0]
-    index = np.rint(rel / dt).astype(np.int64)
-    if np.any(np.diff(index) <= 0):
+    scaled = rel / dt
+    index = np.rint(scaled)
+    # Least-squares cadence on the integer index; the offsets are then measured against it.
+    dt_fit = dt * float(np.dot(index, scaled) / np.dot(index, index))
+    offset = np.abs(rel / dt_fit - index)
+    if offset.max() > tolerance or np.any(index[1:] <= index[:-1]):
         return None
-    # Refine the cadence by least squares on the integer index, then recheck.
-    dt = float(np.dot(index, rel) / np.dot(index, index))
-    index = np.rint(rel / dt).astype(np.int64)
-    offset = np.abs(rel - index * dt) / dt
-    if offset.max() > tolerance or np.any(np.diff(index) <= 0):
-        return None
-    return index, dt
+    return index.astype(np.int64), dt_fit
+
+
+def _typical_step(t: np.ndarray) -> float:
+    """Median positive step between adjacent samples (from at most ~20,000 of them)."""
+    stride = max(1, (t.size - 1) // 20000)
+    at = np.arange(0, t.size - 1, stride)
+    steps = t[at + 1] - t[at]
+    positive = steps[steps > 0]
+    return float(np.median(positive)) if positive.size else float("nan")
 
 
 def _density_scale(n_points: int, nyquist_uhz: float) -> float:
@@ -187,8 +202,8 @@ def _psd_fft(
     n_fft = int(round(1.0 / (df_uhz * _UHZ * dt_s)))
     filled = np.zeros(n_fft, dtype=np.float64)
     filled[index] = x
-    spec = scipy.fft.rfft(filled)[:n_freq]
-    return spec.real**2 + spec.imag**2
+    spec = scipy.fft.rfft(filled, overwrite_x=True)[:n_freq]
+    return np.abs(spec) ** 2
 
 
 def _psd_nufft(
@@ -322,17 +337,18 @@ def power_spectrum(
         raise OptionError(f"fmax must be a positive frequency in μHz; got {fmax!r}")
     if lc.n_points < 3:
         raise OptionError(f"a spectrum needs at least 3 points; got {lc.n_points}")
-    order = np.argsort(lc.time, kind="stable")
-    t = lc.time[order]
-    x = lc.flux[order] - lc.flux.mean()
+    t, x = lc.time, lc.flux
+    if np.any(t[1:] < t[:-1]):
+        order = np.argsort(t, kind="stable")
+        t, x = t[order], x[order]
+    x = x - x.mean()
     grid = cadence_grid(t)
     chosen = _choose_method(method, grid)
 
     if grid is not None:
         dt_days = grid[1]
     else:
-        steps = np.diff(t)
-        dt_days = float(np.median(steps[steps > 0]))
+        dt_days = _typical_step(t)
     dt_s = dt_days * _SECONDS_PER_DAY
     nyquist = 0.5 / dt_s / _UHZ
     span_s = (t[-1] - t[0]) * _SECONDS_PER_DAY + dt_s
@@ -350,33 +366,32 @@ def power_spectrum(
     if chosen == "fft":
         n_freq = min(n_freq, n_fft // 2 + 1)
 
-    power = METHODS[chosen](t, x, df, n_freq, grid)
-    density = power * _density_scale(x.size, nyquist)
+    density = METHODS[chosen](t, x, df, n_freq, grid)
+    density *= _density_scale(x.size, nyquist)
     freq = np.arange(n_freq) * df
-
-    window_freq, window_power = _spectral_window(t, df, window_extent, chosen, grid)
     meta = {
         "id": lc.id,
         "n_points": int(x.size),
         "variance": float(np.mean(x**2)),
         "cadence_s": dt_s,
         "regular_grid": grid is not None,
+        "highpass_uhz": float(lc.meta.get("conditioning", {}).get("highpass_uhz", 0.0)),
     }
     return PowerSpectrum(
-        freq, density, nyquist, resolution, resolution / df, chosen, window_freq, window_power,
-        meta,
+        freq, density, nyquist, resolution, resolution / df, chosen, meta, t, window_extent
     )
 
 
 def _spectral_window(
-    t: np.ndarray, df: float, extent: float, method: str, grid: Any
+    t: np.ndarray, df: float, extent: float, method: str
 ) -> tuple[np.ndarray, np.ndarray]:
     """Power of the sampling function near zero offset, normalised to 1."""
-    n_win = int(np.floor(extent / df)) + 1
-    if extent <= 0 or n_win < 2:
+    n_win = int(np.floor(extent / df)) + 1 if np.isfinite(df) else 0
+    if extent <= 0 or n_win < 2 or t.size < 3:
         return np.zeros(0), np.zeros(0)
+    grid = cadence_grid(t) if method == "fft" else None
     ones = np.ones(t.size)
-    if method == "fft":
+    if grid is not None:
         kernel = _psd_fft
     elif _has_finufft():
         kernel = _psd_nufft

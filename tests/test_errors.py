@@ -139,7 +139,8 @@ def test_cli_keeps_going_after_a_bad_file(tmp_path, rng, capsys):
 
 
 def test_error_message_is_single_line_with_hint():
-    err = errors.ColumnError("no recognisable\nflux column", path="a.fits", hint="use --flux-column")
+    err = errors.ColumnError("no recognisable\nflux column", path="a.fits",
+                             hint="use --flux-column")
     assert str(err) == "a.fits: no recognisable flux column; use --flux-column"
 
 

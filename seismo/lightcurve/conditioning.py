@@ -9,7 +9,9 @@ Steps, in order (each recorded in ``meta["conditioning"]``):
    file's own segment label changes), and normalise each segment on its own,
    since space photometry jumps in level between observing segments;
 4. clip outliers: points further than ``clip_sigma`` robust standard
-   deviations from a running median of ``clip_window`` points;
+   deviations from the median of their ``clip_neighbours`` neighbours on each
+   side (the point itself excluded, so an isolated spike cannot hide in its
+   own median, while oscillations slower than a few cadences are followed);
 5. high-pass filter: subtract a Gaussian-weighted running mean computed
    within each segment, never across a gap. Its width is set so that signal
    above ``highpass_uhz`` keeps at least 99% of its amplitude.
@@ -26,7 +28,7 @@ from dataclasses import dataclass, fields
 from typing import Any
 
 import numpy as np
-from scipy.ndimage import gaussian_filter1d, median_filter
+from scipy.ndimage import gaussian_filter1d
 
 from ..errors import OptionError
 from .core import LightCurve, check_usable
@@ -49,10 +51,11 @@ class ConditionOptions:
     gap_days : float
         A gap longer than this (days) starts a new segment. Default 0.5.
     clip_sigma : float
-        Outlier threshold in robust standard deviations (1.4826 × MAD) of the
-        residual from a running median; ``0`` disables clipping. Default 5.
-    clip_window : int
-        Running-median window, in samples (odd). Default 11.
+        Outlier threshold in robust standard deviations (1.4826 × MAD, per
+        segment) of the residual from the neighbours' median; ``0`` disables
+        clipping. Default 5.
+    clip_neighbours : int
+        Neighbours on each side whose median predicts a point. Default 2.
     highpass_uhz : float
         Oscillations above this frequency (μHz) keep at least 99% of their
         amplitude; slower trends are removed. ``0`` disables the filter.
@@ -67,7 +70,7 @@ class ConditionOptions:
 
     gap_days: float = 0.5
     clip_sigma: float = 5.0
-    clip_window: int = 11
+    clip_neighbours: int = 2
     highpass_uhz: float = 3.0
     min_points: int = 300
     min_baseline_days: float = 3.0
@@ -77,7 +80,7 @@ class ConditionOptions:
         checks = {
             "gap_days": self.gap_days > 0,
             "clip_sigma": self.clip_sigma >= 0,
-            "clip_window": self.clip_window >= 3,
+            "clip_neighbours": self.clip_neighbours >= 1,
             "highpass_uhz": self.highpass_uhz >= 0,
             "min_points": self.min_points >= 3,
             "min_baseline_days": self.min_baseline_days >= 0,
@@ -200,7 +203,7 @@ def condition(lc: LightCurve, options: ConditionOptions | None = None, **kwargs:
 
     n_clipped = 0
     if options.clip_sigma > 0:
-        keep = _clip_outliers(flux, segment, options.clip_sigma, options.clip_window)
+        keep = _clip_outliers(flux, segment, options.clip_sigma, options.clip_neighbours)
         n_clipped = int((~keep).sum())
         time, flux, segment = time[keep], flux[keep], segment[keep]
         err = None if err is None else err[keep]
@@ -218,7 +221,7 @@ def condition(lc: LightCurve, options: ConditionOptions | None = None, **kwargs:
             "n_segments": int(segment.max()) + 1 if segment.size else 0,
             "gap_days": options.gap_days,
             "clip_sigma": options.clip_sigma,
-            "clip_window": options.clip_window,
+            "clip_neighbours": options.clip_neighbours,
             "highpass_uhz": options.highpass_uhz,
             "highpass_sigma_days": sigma_days,
             "normalisation": "divide by segment median" if divide else "subtract segment median",
@@ -268,18 +271,20 @@ def _normalise_segments(
 
 
 def _clip_outliers(
-    flux: np.ndarray, segment: np.ndarray, clip_sigma: float, window: int
+    flux: np.ndarray, segment: np.ndarray, clip_sigma: float, neighbours: int
 ) -> np.ndarray:
-    window = window | 1
-    residual = np.empty_like(flux)
+    keep = np.ones(flux.size, dtype=bool)
     for s in range(int(segment.max()) + 1):
-        sel = segment == s
-        residual[sel] = flux[sel] - median_filter(flux[sel], size=window, mode="nearest")
-    centre = np.median(residual)
-    mad = 1.4826 * np.median(np.abs(residual - centre))
-    if mad == 0:
-        return np.ones(flux.size, dtype=bool)
-    return np.abs(residual - centre) <= clip_sigma * mad
+        sel = np.flatnonzero(segment == s)
+        x = flux[sel]
+        k = min(neighbours, x.size - 1)
+        padded = np.pad(x, k, mode="reflect")
+        shifted = [padded[k + j : padded.size - k + j] for j in range(-k, k + 1) if j != 0]
+        residual = x - np.median(np.stack(shifted), axis=0)
+        scale = 1.4826 * np.median(np.abs(residual - np.median(residual)))
+        if scale > 0:
+            keep[sel] = np.abs(residual - np.median(residual)) <= clip_sigma * scale
+    return keep
 
 
 def _gaussian_smooth(
