@@ -52,8 +52,8 @@ def _add_condition_options(parser: argparse.ArgumentParser) -> None:
     group.add_argument("--gap-days", type=float, default=0.5, metavar="D",
                        help="start a new segment at gaps longer than D days (default 0.5)")
     group.add_argument("--clip-sigma", type=float, default=5.0, metavar="K",
-                       help="clip points K robust sigmas from a running median; 0 disables "
-                            "(default 5)")
+                       help="clip points K robust sigmas from the median of their neighbours; "
+                            "0 disables (default 5)")
     group.add_argument("--highpass", type=float, default=3.0, metavar="UHZ",
                        help="remove trends; signal above UHZ μHz keeps 99%% of its amplitude; "
                             "0 disables (default 3)")
@@ -248,6 +248,9 @@ def _run_simulate(args: argparse.Namespace) -> int:
     }
     if args.no_oscillations:
         changes["oscillations"] = False
+    if args.numax is not None and args.dnu is None:
+        changes["dnu"] = None  # follow the new numax through the Δν–numax relation
+    changes.setdefault("id", Path(args.output).name.split(".")[0])
     star = replace(star, **changes)
     observation = OBSERVATIONS[args.observation]
     if args.duration is not None:

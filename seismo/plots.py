@@ -90,9 +90,11 @@ def plot_lightcurve_spectrum(
 
     t0 = float(lc.time.min())
     segments = lc.segment if lc.segment is not None else np.zeros(lc.n_points, dtype=int)
+    marker, size = ("o", 1.2) if lc.n_points < 20000 else (",", 1.0)
     for parity, colour in ((0, _DATA), (1, _DATA_ALT)):
         sel = segments % 2 == parity
-        ax_lc.plot(lc.time[sel] - t0, lc.flux[sel], ",", color=colour, rasterized=True)
+        ax_lc.plot(lc.time[sel] - t0, lc.flux[sel], marker, ms=size, ls="none", color=colour,
+                   rasterized=True)
     ax_lc.set_xlabel(f"Time − {t0:.2f} (d)")
     ax_lc.set_ylabel("Relative flux (ppm)")
     n_seg = int(segments.max()) + 1 if segments.size else 0
