@@ -401,9 +401,16 @@ class BackgroundFit:
         return self.model.parts(np.asarray(freq, dtype=np.float64), self.params)
 
     def background(self, freq: np.ndarray) -> np.ndarray:
-        """Fitted background without the envelope at ``freq`` (μHz), ppm²/μHz."""
+        """Fitted background without the envelope at ``freq`` (μHz), ppm²/μHz.
+
+        The high-pass filter's transmission vanishes at 0 μHz; the result is
+        floored at its smallest positive value so that a signal-to-noise
+        spectrum (density / background) is defined everywhere.
+        """
         parts = self.parts(freq)
-        return np.sum([v for k, v in parts.items() if k != "envelope"], axis=0)
+        total = np.sum([v for k, v in parts.items() if k != "envelope"], axis=0)
+        positive = total[total > 0]
+        return np.maximum(total, positive.min()) if positive.size else total
 
     @property
     def has_envelope(self) -> bool:

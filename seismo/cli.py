@@ -7,7 +7,6 @@ Exit status: 0 success; 1 when at least one input could not be analysed;
 from __future__ import annotations
 
 import argparse
-import json
 import sys
 import warnings
 from collections.abc import Sequence
@@ -74,6 +73,27 @@ def _add_spectrum_options(parser: argparse.ArgumentParser) -> None:
                        help="highest frequency in μHz (default Nyquist)")
 
 
+def _add_science_options(parser: argparse.ArgumentParser) -> None:
+    from .scaling import CORRECTIONS, SOLAR_REFERENCES
+
+    group = parser.add_argument_group("detection and scaling relations")
+    group.add_argument("--false-alarm", type=float, default=1e-4, metavar="P",
+                       help="largest false-alarm probability accepted as a detection "
+                            "(default 1e-4)")
+    group.add_argument("--teff", type=float, metavar="K",
+                       help="effective temperature in K (needed for mass and radius)")
+    group.add_argument("--teff-err", type=float, metavar="K",
+                       help="1-sigma error of --teff in K (default 100 K when --teff is given)")
+    group.add_argument("--reference", default="huber2011", choices=sorted(SOLAR_REFERENCES),
+                       help="solar reference values of the scaling relations (default "
+                            "huber2011; see docs/guide.md)")
+    group.add_argument("--correction", default="none", choices=["none", *CORRECTIONS],
+                       help="empirical correction of scaling masses and radii (default none)")
+    group.add_argument("--f-dnu", type=float, default=1.0, metavar="F",
+                       help="model-based correction factor of the Δν scaling relation "
+                            "(default 1)")
+
+
 def build_parser() -> argparse.ArgumentParser:
     """Return the argument parser of the ``seismo`` command."""
     parser = argparse.ArgumentParser(
@@ -93,12 +113,14 @@ def build_parser() -> argparse.ArgumentParser:
                               + ", ".join(LIGHTCURVE_SUFFIXES))
     analyze.add_argument("--plot", metavar="DIR", help="write one figure per star into DIR")
     analyze.add_argument("--json", action="store_true",
-                         help="print one JSON object per star instead of the summary")
+                         help="print the result of each star as one JSON object per line "
+                              "(the schema of docs/guide.md) instead of the summary")
     analyze.add_argument("--debug", action="store_true",
                          help="show the traceback of unexpected errors")
     _add_read_options(analyze)
     _add_condition_options(analyze)
     _add_spectrum_options(analyze)
+    _add_science_options(analyze)
 
     simulate = sub.add_parser(
         "simulate", help="write a synthetic red-giant light curve with its truth",
@@ -152,7 +174,8 @@ def _collect_inputs(paths: Sequence[str]) -> list[Path]:
 
 
 def _config_from_args(args: argparse.Namespace) -> Any:
-    from .config import AnalysisConfig, SpectrumOptions
+    from .background import DetectionOptions
+    from .config import AnalysisConfig, ScalingOptions, SpectrumOptions
     from .lightcurve import ConditionOptions, ReadOptions
 
     hdu: int | str | None = args.hdu
@@ -170,46 +193,88 @@ def _config_from_args(args: argparse.Namespace) -> Any:
             min_points=args.min_points, min_baseline_days=args.min_baseline,
         ),
         spectrum=SpectrumOptions(method=args.method, oversample=args.oversample, fmax=args.fmax),
+        detection=DetectionOptions(false_alarm=args.false_alarm),
+        scaling=ScalingOptions(reference=args.reference, correction=args.correction,
+                               f_dnu=args.f_dnu),
     )
 
 
-def _human_summary(s: dict[str, Any], figure: Path | None) -> str:
+def _inputs_from_args(args: argparse.Namespace) -> Any:
+    from .config import StarInputs
+
+    if args.teff_err is not None and args.teff is None:
+        raise OptionError("--teff-err was given without --teff")
+    teff_err = args.teff_err if args.teff_err is not None else (
+        100.0 if args.teff is not None else None)
+    return StarInputs(teff=args.teff, teff_err=teff_err)
+
+
+def _fmt(m: Any, unit: str = "", digits: int = 4) -> str:
+    if m is None:
+        return "—"
+    err = "" if m.error is None else f" ± {m.error:.{digits - 2}g}"
+    return f"{m.value:.{digits}g}{err}{unit}"
+
+
+def _human_summary(analysis: Any, figure: Path | None) -> str:
+    from .scaling import BIAS_NOTE
+
+    r = analysis.result
+    s = r.details["lightcurve"]
     lines = [
-        f"{s['id']}  ({s['source']}, {s['format']}; flux read as {s['flux_assumed']})",
-        f"  points   {s['n_points']:,} kept of {s['n_rows']:,} rows "
-        f"(flagged {s['n_flagged_dropped']:,}, non-finite {s['n_nonfinite_dropped']:,}, "
-        f"outliers {s['n_outliers_clipped']:,}, merged {s['n_duplicates_merged']:,}); "
-        f"{s['n_segments']} segments",
-        f"  span     {s['baseline_days']:.2f} d at {s['cadence_min']:.3g}-min cadence; "
-        f"Nyquist {s['nyquist_uhz']:.2f} μHz, resolution {s['resolution_uhz']:.4g} μHz",
-        f"  signal   rms {s['rms_ppm']:.4g} ppm after removing trends below "
-        f"{s['highpass_uhz']:g} μHz; spectrum by {s['spectrum_method']}",
+        f"{r.id}  ({s['source']}, {s['format']}; flux read as {s['flux_assumed']})",
+        f"  data       {s['n_points']:,} points kept of {s['n_rows']:,} (flagged "
+        f"{s['n_flagged_dropped']:,}, non-finite {s['n_nonfinite_dropped']:,}, outliers "
+        f"{s['n_outliers_clipped']:,}); {s['n_segments']} segments over "
+        f"{s['baseline_days']:.1f} d at {s['cadence_min']:.3g}-min cadence",
+        f"  spectrum   Nyquist {s['nyquist_uhz']:.2f} μHz, resolution "
+        f"{s['resolution_uhz']:.3g} μHz ({s['spectrum_method']})",
     ]
+    det = r.details["detection"]
+    if not r.detected:
+        lines.append(f"  detection  none: no oscillation excess (false-alarm probability "
+                     f"{det['false_alarm']:.2g}); no seismic values are reported")
+    else:
+        bg = r.details.get("background", {})
+        lines += [
+            f"  detection  yes (false-alarm probability {det['false_alarm']:.2g}); "
+            f"height/background {bg.get('height_to_background', float('nan')):.3g}",
+            f"  numax      {_fmt(r.numax, ' μHz')}",
+            f"  Δν         {_fmt(r.dnu, ' μHz', 5)}",
+            f"  ε          {_fmt(r.eps_p, '', 3)}",
+            f"  mass       {_fmt(r.mass, ' M☉', 3)}",
+            f"  radius     {_fmt(r.radius, ' R☉', 3)}",
+            f"  log g      {_fmt(r.logg, ' dex', 4)}",
+        ]
+        if r.mass is not None:
+            lines.append(f"  note       {BIAS_NOTE}")
+    shown = [f for f in r.flags if not f.endswith("_not_implemented")]
+    if shown:
+        lines.append(f"  flags      {', '.join(shown)}")
+    lines.append("  not yet    ΔΠ1, q and the evolutionary state (later releases)")
     if figure is not None:
-        lines.append(f"  figure   {figure}")
+        lines.append(f"  figure     {figure}")
     return "\n".join(lines)
 
 
 def _run_analyze(args: argparse.Namespace) -> int:
-    from .pipeline import prepare, summarize
+    from .pipeline import analyze
 
     config = _config_from_args(args)
-    inputs = _collect_inputs(args.inputs)
+    inputs = _inputs_from_args(args)
+    paths = _collect_inputs(args.inputs)
     status = EXIT_OK
-    for path in inputs:
+    for path in paths:
         with warnings.catch_warnings(record=True) as caught:
             warnings.simplefilter("always")
             try:
-                prepared = prepare(path, config)
-                summary = summarize(prepared)
+                analysis = analyze(path, config, inputs)
                 figure = None
                 if args.plot:
-                    from .plots import plot_lightcurve_spectrum
+                    from .plots import plot_star
 
-                    name = str(summary["id"] or path.stem).replace("/", "_")
-                    figure = plot_lightcurve_spectrum(
-                        prepared.lightcurve, prepared.spectrum, Path(args.plot) / f"{name}.png"
-                    )
+                    name = str(analysis.result.id or path.stem).replace("/", "_")
+                    figure = plot_star(analysis, Path(args.plot) / f"{name}.png")
             except SeismoError as err:
                 err.with_path(str(path))
                 print(f"seismo: error: {err.one_line()}", file=sys.stderr)
@@ -223,11 +288,12 @@ def _run_analyze(args: argparse.Namespace) -> int:
                 status = max(status, EXIT_INTERNAL)
                 continue
         for w in caught:
-            print(f"seismo: note: {w.message}", file=sys.stderr)
+            if issubclass(w.category, UserWarning):
+                print(f"seismo: note: {w.message}", file=sys.stderr)
         if args.json:
-            print(json.dumps(summary, default=str))
+            print(analysis.result.to_json())
         else:
-            print(_human_summary(summary, figure))
+            print(_human_summary(analysis, figure))
     return status
 
 

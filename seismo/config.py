@@ -1,7 +1,8 @@
 """Analysis configuration: one frozen object for a whole run, with a hash.
 
 The hash goes into every result's provenance so that a result can be tied
-to the exact settings that produced it.
+to the exact settings that produced it. Per-star inputs (Teff, [Fe/H]) are
+not configuration: they live in `StarInputs`.
 """
 
 from __future__ import annotations
@@ -13,10 +14,15 @@ from typing import Any
 
 import numpy as np
 
+from .background import DetectionOptions
 from .errors import OptionError
 from .lightcurve import ConditionOptions, ReadOptions
 
-__all__ = ["SpectrumOptions", "AnalysisConfig"]
+__all__ = ["SpectrumOptions", "ScalingOptions", "StarInputs", "AnalysisConfig"]
+
+
+def _as_dict(obj: Any) -> dict[str, Any]:
+    return {f.name: getattr(obj, f.name) for f in fields(obj)}
 
 
 @dataclass(frozen=True)
@@ -52,23 +58,102 @@ class SpectrumOptions:
 
     def to_dict(self) -> dict[str, Any]:
         """Plain dict of the options."""
-        return {f.name: getattr(self, f.name) for f in fields(self)}
+        return _as_dict(self)
+
+
+@dataclass(frozen=True)
+class ScalingOptions:
+    """Settings of the scaling relations (see `seismo.scaling.scaling_estimates`).
+
+    Parameters
+    ----------
+    reference : str
+        Key of `seismo.scaling.SOLAR_REFERENCES`.
+    correction : str
+        ``"none"`` or ``"eclipsing-binary"``.
+    f_dnu : float
+        Model-based correction factor of the Δν relation (1 = none).
+    systematic : bool
+        Add the spread between solar reference sets to the errors.
+    n_draws : int
+        Monte Carlo draws.
+    """
+
+    reference: str = "huber2011"
+    correction: str = "none"
+    f_dnu: float = 1.0
+    systematic: bool = True
+    n_draws: int = 4000
+
+    def __post_init__(self) -> None:
+        from .scaling import CORRECTIONS, SOLAR_REFERENCES
+
+        if self.reference not in SOLAR_REFERENCES:
+            raise OptionError(
+                f"unknown solar reference {self.reference!r}; allowed references are "
+                f"{sorted(SOLAR_REFERENCES)}"
+            )
+        allowed = ["none", *CORRECTIONS]
+        if self.correction not in allowed:
+            raise OptionError(
+                f"unknown correction {self.correction!r}; allowed corrections are {allowed}"
+            )
+        if not (np.isfinite(self.f_dnu) and self.f_dnu > 0):
+            raise OptionError(f"f_dnu must be a positive factor; got {self.f_dnu!r}")
+        if self.n_draws < 100:
+            raise OptionError(f"n_draws must be at least 100; got {self.n_draws}")
+
+    def to_dict(self) -> dict[str, Any]:
+        """Plain dict of the options."""
+        return _as_dict(self)
+
+
+@dataclass(frozen=True)
+class StarInputs:
+    """What is known about one star besides its light curve.
+
+    Parameters
+    ----------
+    teff, teff_err : float, optional
+        Effective temperature and its 1σ error, K (give both).
+    feh : float, optional
+        Metallicity [Fe/H], dex (recorded; not used by the scaling relations).
+    """
+
+    teff: float | None = None
+    teff_err: float | None = None
+    feh: float | None = None
+
+    def __post_init__(self) -> None:
+        if self.teff is not None and not (np.isfinite(self.teff) and 2500 < self.teff < 10000):
+            raise OptionError(f"teff must be a temperature in K between 2500 and 10000; "
+                              f"got {self.teff!r}")
+        if self.teff_err is not None and not (np.isfinite(self.teff_err) and self.teff_err > 0):
+            raise OptionError(f"teff_err must be a positive number of K; got {self.teff_err!r}")
+
+    def to_dict(self) -> dict[str, Any]:
+        """Plain dict of the inputs."""
+        return _as_dict(self)
 
 
 @dataclass(frozen=True)
 class AnalysisConfig:
-    """Every setting of one analysis (reading, conditioning, spectrum).
+    """Every setting of one analysis.
 
     Parameters
     ----------
     read : ReadOptions
     condition : ConditionOptions
     spectrum : SpectrumOptions
+    detection : DetectionOptions
+    scaling : ScalingOptions
     """
 
     read: ReadOptions = field(default_factory=ReadOptions)
     condition: ConditionOptions = field(default_factory=ConditionOptions)
     spectrum: SpectrumOptions = field(default_factory=SpectrumOptions)
+    detection: DetectionOptions = field(default_factory=DetectionOptions)
+    scaling: ScalingOptions = field(default_factory=ScalingOptions)
 
     def to_dict(self) -> dict[str, Any]:
         """Nested plain dict of every setting."""
@@ -76,6 +161,8 @@ class AnalysisConfig:
             "read": self.read.to_dict(),
             "condition": self.condition.to_dict(),
             "spectrum": self.spectrum.to_dict(),
+            "detection": _as_dict(self.detection),
+            "scaling": self.scaling.to_dict(),
         }
 
     def hash(self) -> str:

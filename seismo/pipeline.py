@@ -1,7 +1,10 @@
-"""One star: a file or `LightCurve` through the stages to a summary.
+"""One star: a file or `LightCurve` through the stages to a `StarResult`.
 
 Stages are composed here; none of them reads files (except the reader at the
-edge), prints or plots.
+edge), prints or plots::
+
+    read → condition → spectrum → detection → background + numax
+         → Δν and the radial pattern → scaling relations → StarResult
 """
 
 from __future__ import annotations
@@ -15,11 +18,17 @@ from typing import Any
 import numpy as np
 
 from . import __version__
-from .config import AnalysisConfig
+from .background import BackgroundFit, Detection, detect_oscillations
+from .config import AnalysisConfig, StarInputs
 from .lightcurve import LightCurve, condition, read_lightcurve
+from .results import Measurement, StarResult
 from .spectrum import PowerSpectrum, power_spectrum
 
-__all__ = ["Prepared", "prepare", "summarize", "file_checksum"]
+__all__ = ["Prepared", "prepare", "summarize", "file_checksum", "Analysis", "analyze",
+           "NOT_YET_MEASURED"]
+
+#: Flags for schema fields that later stages of the project will fill.
+NOT_YET_MEASURED = ("dpi1_not_implemented", "q_not_implemented", "state_not_implemented")
 
 
 @dataclass(frozen=True, eq=False)
@@ -150,3 +159,152 @@ def summarize(prepared: Prepared) -> dict[str, Any]:
         "spectrum_method": ps.method,
         "provenance": prepared.provenance,
     }
+
+
+@dataclass(frozen=True, eq=False)
+class Analysis:
+    """Everything the analysis of one star produced.
+
+    Attributes
+    ----------
+    prepared : Prepared
+        Light curves and spectrum.
+    detection : Detection
+        The search for an oscillation excess (with the background fits).
+    pattern : object or None
+        The radial-mode pattern (`seismo.pmodes.RadialPattern`), if measured.
+    scaling : object or None
+        Scaling-relation estimates (`seismo.scaling.ScalingEstimates`).
+    result : StarResult
+        The schema-level result.
+    """
+
+    prepared: Prepared
+    detection: Detection
+    pattern: Any
+    scaling: Any
+    result: StarResult
+
+    @property
+    def background(self) -> BackgroundFit:
+        """The background fit to show: with the envelope if detected, else alone."""
+        if self.detection.detected and self.detection.fit is not None:
+            return self.detection.fit
+        return self.detection.null_fit
+
+
+def _seed_from(*parts: str) -> int:
+    digest = hashlib.sha256("|".join(parts).encode()).digest()
+    return int.from_bytes(digest[:8], "little")
+
+
+def analyze(
+    source: str | os.PathLike[str] | LightCurve,
+    config: AnalysisConfig | None = None,
+    inputs: StarInputs | None = None,
+    *,
+    rng: np.random.Generator | int | None = None,
+) -> Analysis:
+    """Analyse one star: from a light curve to every global seismic parameter.
+
+    Parameters
+    ----------
+    source : path or LightCurve
+        Light-curve file or `LightCurve` (days, ppm).
+    config : AnalysisConfig, optional
+        Settings of every stage.
+    inputs : StarInputs, optional
+        Teff (K) and its error, [Fe/H], for the scaling relations.
+    rng : numpy.random.Generator, int or None
+        Random generator for the Monte Carlo error propagation; default a
+        seed derived from the input checksum and configuration hash, so the
+        same input gives the same result on every run.
+
+    Returns
+    -------
+    Analysis
+
+    Raises
+    ------
+    InputError
+        When the light curve cannot be analysed at all. Measurements that
+        fail are flags in ``result.flags``, not exceptions.
+    """
+    from .pmodes import fit_radial_pattern, large_separation, reconcile
+    from .scaling import scaling_estimates
+
+    config = config or AnalysisConfig()
+    inputs = inputs or StarInputs()
+    prepared = prepare(source, config)
+    ps = prepared.spectrum
+    provenance = dict(prepared.provenance)
+    if rng is None:
+        seed = _seed_from(provenance["input_checksum"], provenance["config_hash"])
+        provenance["seed"] = seed
+        rng = np.random.default_rng(seed)
+    else:
+        rng = np.random.default_rng(rng)
+
+    detection = detect_oscillations(ps, config.detection)
+    flags: list[str] = list(detection.flags)
+    details: dict[str, Any] = {
+        "detection": {"false_alarm": detection.false_alarm, "statistic": detection.statistic},
+        "lightcurve": summarize(prepared),
+        "inputs": inputs.to_dict(),
+    }
+    star_id = str(prepared.lightcurve.id or "unknown")
+    if not detection.detected or detection.fit is None:
+        result = StarResult(
+            id=star_id, detected=False,
+            flags=tuple(flags + ["numax_not_measured", "dnu_not_measured",
+                                 "mass_radius_not_measured", *NOT_YET_MEASURED]),
+            provenance=provenance, details=details,
+        )
+        return Analysis(prepared, detection, None, None, result)
+
+    fit = detection.fit
+    numax = Measurement.or_none(fit.value("envelope:numax"), fit.error("envelope:numax"))
+    flags += list(fit.flags)
+    details["background"] = {
+        **fit.as_dict(),
+        "height_to_background": fit.height_to_background(),
+        "overdispersion": fit.overdispersion,
+    }
+    background = fit.background(ps.freq)
+    coarse = large_separation(ps, numax.value, background, numax_err=numax.error)
+    flags += list(coarse.flags)
+    pattern = None
+    dnu = eps_p = None
+    if coarse.dnu is not None:
+        pattern = reconcile(coarse, fit_radial_pattern(ps, numax.value, coarse.dnu, background))
+        flags += [f for f in pattern.flags if f not in flags]
+        dnu, eps_p = pattern.dnu, pattern.eps_p
+        details["pattern"] = pattern.as_dict()
+    if dnu is None:
+        flags.append("dnu_not_measured")
+
+    scaling = None
+    mass = radius = logg = None
+    if dnu is not None and numax.error is not None and dnu.error is not None:
+        opts = config.scaling
+        scaling = scaling_estimates(
+            numax.value, numax.error, dnu.value, dnu.error, inputs.teff, inputs.teff_err,
+            reference=opts.reference, correction=opts.correction, f_dnu=opts.f_dnu,
+            systematic=opts.systematic, n_draws=opts.n_draws, rng=rng,
+        )
+        mass, radius, logg = scaling.mass, scaling.radius, scaling.logg
+        flags += list(scaling.flags)
+        details["scaling"] = {
+            "density": None if scaling.density is None else scaling.density.to_dict(),
+            "luminosity": None if scaling.luminosity is None else scaling.luminosity.to_dict(),
+            **scaling.details,
+        }
+    else:
+        flags.append("mass_radius_not_measured")
+
+    result = StarResult(
+        id=star_id, detected=True, numax=numax, dnu=dnu, eps_p=eps_p, mass=mass,
+        radius=radius, logg=logg, flags=tuple(flags + list(NOT_YET_MEASURED)),
+        provenance=provenance, details=details,
+    )
+    return Analysis(prepared, detection, pattern, scaling, result)

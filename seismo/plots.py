@@ -131,3 +131,182 @@ def plot_lightcurve_spectrum(
     fig.savefig(path, dpi=110)
     plt.close(fig)
     return path
+
+
+def _echelle_colormap() -> Any:
+    from matplotlib.colors import LinearSegmentedColormap
+
+    # Our own map: paper white through slate to a deep ink blue.
+    return LinearSegmentedColormap.from_list(
+        "seismo_ink", ["#fbfaf7", "#c9d3df", "#6b7f99", "#2c3e5c", "#0b1426"]
+    )
+
+
+def plot_star(analysis: Any, path: str | os.PathLike[str]) -> Path:
+    """Write the vetting figure of one analysed star.
+
+    Panels: the conditioned light curve; the power density spectrum (raw and
+    smoothed) with the fitted background components, envelope and numax; the
+    spectrum around numax divided by the background, with the fitted l=0 and
+    l=2 frequencies; and the échelle diagram with the fitted ridges. A star
+    without a detection shows the background-only fit and says so.
+
+    Parameters
+    ----------
+    analysis : seismo.pipeline.Analysis
+        Result of `seismo.pipeline.analyze`.
+    path : str or path-like
+        Output image (PNG).
+
+    Returns
+    -------
+    Path
+        The file written.
+    """
+    plt = _pyplot()
+    path = Path(path)
+    path.parent.mkdir(parents=True, exist_ok=True)
+    lc = analysis.prepared.lightcurve
+    ps = analysis.prepared.spectrum
+    result = analysis.result
+    fig = plt.figure(figsize=(13, 10), constrained_layout=True)
+    grid = fig.add_gridspec(3, 2, height_ratios=[0.8, 1.2, 1.2])
+    ax_lc = fig.add_subplot(grid[0, :])
+    ax_ps = fig.add_subplot(grid[1, 0])
+    ax_zoom = fig.add_subplot(grid[1, 1])
+    ax_ech = fig.add_subplot(grid[2, :])
+
+    _draw_lightcurve(ax_lc, lc)
+    fit = analysis.background
+    _draw_spectrum(ax_ps, ps, fit, result)
+    if result.detected and result.numax is not None:
+        _draw_zoom(ax_zoom, ps, fit, analysis.pattern, result)
+    else:
+        _placeholder(ax_zoom, "No oscillation excess detected\n(false-alarm probability "
+                     f"{result.details['detection']['false_alarm']:.2g})")
+    if result.dnu is not None and analysis.pattern is not None:
+        _draw_echelle(ax_ech, ps, fit, analysis.pattern, result)
+    else:
+        _placeholder(ax_ech, "Échelle diagram needs Δν: " + (
+            "not measured" if result.detected else "no detection"))
+    title = f"{result.id}"
+    if result.detected and result.numax is not None:
+        title += f"   numax {result.numax.value:.3g} μHz"
+        if result.dnu is not None:
+            title += f"   Δν {result.dnu.value:.4g} μHz"
+    else:
+        title += "   no oscillations detected"
+    fig.suptitle(title, fontsize=13)
+    fig.savefig(path, dpi=100)
+    plt.close(fig)
+    return path
+
+
+def _placeholder(ax: Any, text: str) -> None:
+    ax.text(0.5, 0.5, text, ha="center", va="center", transform=ax.transAxes, fontsize=11,
+            color=_DATA)
+    ax.set_xticks([])
+    ax.set_yticks([])
+
+
+def _draw_lightcurve(ax: Any, lc: LightCurve) -> None:
+    t0 = float(lc.time.min())
+    segments = lc.segment if lc.segment is not None else np.zeros(lc.n_points, dtype=int)
+    marker, size = ("o", 1.2) if lc.n_points < 20000 else (",", 1.0)
+    for parity, colour in ((0, _DATA), (1, _DATA_ALT)):
+        sel = segments % 2 == parity
+        ax.plot(lc.time[sel] - t0, lc.flux[sel], marker, ms=size, ls="none", color=colour,
+                rasterized=True)
+    spread = np.percentile(lc.flux, [0.1, 99.9])
+    pad = 0.1 * (spread[1] - spread[0])
+    ax.set_ylim(spread[0] - pad, spread[1] + pad)
+    ax.set_xlabel(f"Time − {t0:.2f} (d)")
+    ax.set_ylabel("Relative flux (ppm)")
+    n_seg = int(segments.max()) + 1 if segments.size else 0
+    ax.set_title(f"Conditioned light curve: {lc.n_points:,} points in {n_seg} segments",
+                 fontsize=10)
+
+
+def _draw_spectrum(ax: Any, ps: PowerSpectrum, fit: Any, result: Any) -> None:
+    pos = ps.freq > 0
+    ax.loglog(ps.freq[pos], ps.density[pos], color="#d5dae2", lw=0.3, rasterized=True,
+              label="power density")
+    centres, smooth = log_binned(ps.freq, ps.density)
+    ax.loglog(centres, smooth, color=_DATA, lw=1.0, label="mean in log-spaced bins")
+    freq = np.geomspace(max(ps.freq[1], 0.5), ps.freq[-1], 800)
+    parts = fit.parts(freq)
+    styles = {"granulation 1": ("--", "#7c8da6"), "granulation 2": ("-.", "#7c8da6"),
+              "white noise": (":", "#7c8da6"), "envelope": ("-", _MARK)}
+    for label, values in parts.items():
+        ls, colour = styles.get(label, ("-", "#999999"))
+        ax.loglog(freq, values, ls=ls, color=colour, lw=1.2, label=label)
+    ax.loglog(freq, fit.model.psd(freq, fit.params), color=_SMOOTH, lw=1.8,
+              label="fitted model")
+    if result.detected and result.numax is not None:
+        ax.axvline(result.numax.value, color=_MARK, lw=1, ls="--",
+                   label=f"numax {result.numax.value:.3g} μHz")
+    finite = smooth[smooth > 0]
+    if finite.size:
+        ax.set_ylim(finite.min() / 3, finite.max() * 5)
+    ax.set_xlim(max(ps.freq[pos][0], 0.5), ps.freq[-1])
+    ax.set_xlabel("Frequency (μHz)")
+    ax.set_ylabel("Power density (ppm²/μHz)")
+    ax.set_title("Spectrum and fitted background", fontsize=10)
+    ax.legend(loc="lower left", fontsize=7, frameon=False, ncol=2)
+
+
+def _draw_zoom(ax: Any, ps: PowerSpectrum, fit: Any, pattern: Any, result: Any) -> None:
+    numax = result.numax.value
+    width = fit.value("envelope:width")
+    lo, hi = max(numax - 3 * width, ps.freq[1]), min(numax + 3 * width, ps.freq[-1])
+    sel = (ps.freq >= lo) & (ps.freq <= hi)
+    snr = ps.density[sel] / fit.background(ps.freq[sel])
+    ax.plot(ps.freq[sel], snr, color="#c3cad6", lw=0.4, rasterized=True,
+            label="spectrum / background")
+    step = max(1, int(round(max(0.1, 3 * ps.resolution) / ps.df)))
+    kernel = np.ones(step) / step
+    ax.plot(ps.freq[sel], np.convolve(snr, kernel, mode="same"), color=_DATA, lw=0.8,
+            label="smoothed")
+    if pattern is not None:
+        modes = pattern.modes
+        for ell, colour, name in ((0, _SMOOTH, "l=0"), (2, _MARK, "l=2")):
+            f = modes.frequency[modes.l == ell]
+            f = f[(f >= lo) & (f <= hi)]
+            for i, value in enumerate(f):
+                ax.axvline(value, color=colour, lw=0.8, alpha=0.8,
+                           label=f"fitted {name}" if i == 0 else None)
+    ax.set_xlim(lo, hi)
+    ax.set_ylim(0, max(10.0, np.percentile(snr, 99.9) * 1.1))
+    ax.set_xlabel("Frequency (μHz)")
+    ax.set_ylabel("Power / background")
+    ax.set_title("Around numax", fontsize=10)
+    ax.legend(loc="upper right", fontsize=7, frameon=False)
+
+
+def _draw_echelle(ax: Any, ps: PowerSpectrum, fit: Any, pattern: Any, result: Any) -> None:
+    from matplotlib.colors import PowerNorm
+
+    from .pmodes import echelle_coordinates, echelle_image
+
+    dnu = result.dnu.value
+    background = fit.background(ps.freq)
+    # Put the radial ridge at 0.65 Δν, so the l=2 ridge sits left of it and the dipole
+    # forest near 0.15 Δν, none of them split across the edge.
+    eps = result.eps_p.value if result.eps_p is not None else 1.0
+    offset = float(((eps - 0.65) % 1.0) * dnu)
+    image = echelle_image(ps, dnu, result.numax.value, background, offset=offset)
+    finite = image.image[np.isfinite(image.image)]
+    top = float(np.percentile(finite, 99.7)) if finite.size else 1.0
+    ax.pcolormesh(image.x, image.y, image.image, cmap=_echelle_colormap(), shading="auto",
+                  norm=PowerNorm(0.6, vmin=0.0, vmax=max(top, 1.0)), rasterized=True)
+    modes = pattern.modes
+    for ell, marker, colour in ((0, "o", _SMOOTH), (2, "s", _MARK)):
+        sel = modes.l == ell
+        if sel.any():
+            x, y = echelle_coordinates(modes.frequency[sel], dnu, offset=image.offset)
+            ax.plot(x, y, marker, mfc="none", mec=colour, ms=7, mew=1.5, ls="none",
+                    label=f"fitted l={ell}")
+    ax.set_xlabel(f"Frequency modulo Δν = {dnu:.4g} μHz (μHz)")
+    ax.set_ylabel("Frequency (μHz)")
+    ax.set_title("Échelle diagram (power / background, smoothed)", fontsize=10)
+    ax.legend(loc="upper right", fontsize=8, frameon=True)

@@ -11,21 +11,56 @@ import pytest
 
 from seismo import __version__
 from seismo.cli import main
+from seismo.results import SCHEMA_FIELDS, validate_result_dict
 
 DEMO = Path(__file__).resolve().parent.parent / "demo_lightcurves"
 
 
-def test_analyze_demo_star_json(capsys):
-    status = main(["analyze", str(DEMO / "HLD-0106.csv"), "--json"])
+def test_analyze_json_follows_the_schema(capsys):
+    status = main(["analyze", str(DEMO / "HLD-0104.fits"), "--json", "--teff", "4900"])
     out = capsys.readouterr().out
     assert status == 0
-    summary = json.loads(out)
-    assert summary["id"] == "HLD-0106"
-    assert summary["provenance"]["version"] == __version__
-    assert summary["provenance"]["input_checksum"].startswith("sha256:")
+    assert len(out.strip().splitlines()) == 1  # only the JSON object on stdout
+    result = json.loads(out)
+    validate_result_dict(result)  # the DESIGN.md schema (common practice: stable schema)
+    assert list(result)[: len(SCHEMA_FIELDS)] == list(SCHEMA_FIELDS)
+    assert result["id"] == "HLD-0104"
+    assert result["detected"] is True
+    for name in ("numax", "dnu", "eps_p", "mass", "radius", "logg"):
+        assert set(result[name]) == {"value", "error"}
+    for name in ("dpi1", "q"):
+        assert result[name] is None
+        assert f"{name}_not_implemented" in result["flags"]
+    assert result["state"] == "unknown"
+    assert result["provenance"]["version"] == __version__
+    assert result["provenance"]["input_checksum"].startswith("sha256:")
+    assert len(result["provenance"]["config_hash"]) == 16
+
+
+def test_noise_only_star_is_reported_as_not_detected(capsys):
+    status = main(["analyze", str(DEMO / "HLD-0105.txt"), "--json"])
+    result = json.loads(capsys.readouterr().out)
+    assert status == 0
+    assert result["detected"] is False
+    assert all(result[name] is None for name in ("numax", "dnu", "eps_p", "mass", "radius"))
+    assert any(flag.startswith("no_detection") for flag in result["flags"])
+
+
+def test_sector_star_summary(capsys):
+    status = main(["analyze", str(DEMO / "HLD-0106.csv"), "--json"])
+    result = json.loads(capsys.readouterr().out)
+    assert status == 0
+    lc = result["details"]["lightcurve"]
     # 30-min cadence: Nyquist 277.78 μHz; 27.4-d sector: 1/T ≈ 0.42 μHz (REFERENCES.md §9).
-    assert summary["nyquist_uhz"] == pytest.approx(277.78, abs=0.01)
-    assert summary["resolution_uhz"] == pytest.approx(0.42, abs=0.01)
+    assert lc["nyquist_uhz"] == pytest.approx(277.78, abs=0.01)
+    assert lc["resolution_uhz"] == pytest.approx(0.42, abs=0.01)
+    assert "dnu_low_resolution" in result["flags"]
+
+
+def test_human_summary_states_the_scaling_bias(capsys):
+    assert main(["analyze", str(DEMO / "HLD-0102.fits"), "--teff", "4800"]) == 0
+    out = capsys.readouterr().out
+    assert "numax" in out and "overestimate" in out
 
 
 def test_analyze_folder_writes_one_figure_per_star(tmp_path, capsys):
@@ -47,9 +82,9 @@ def test_simulate_then_analyze(tmp_path, capsys):
     assert truth["id"] == "mystar"
     capsys.readouterr()
     assert main(["analyze", str(target), "--json"]) == 0
-    summary = json.loads(capsys.readouterr().out)
-    assert summary["id"] == "mystar"
-    assert summary["cadence_min"] == pytest.approx(2.0, rel=1e-6)
+    result = json.loads(capsys.readouterr().out)
+    assert result["id"] == "mystar"
+    assert result["details"]["lightcurve"]["cadence_min"] == pytest.approx(2.0, rel=1e-6)
 
 
 def test_simulate_numax_override_rederives_dnu(tmp_path, capsys):
