@@ -63,8 +63,11 @@ def speed() -> None:
     freq_hz = ps.freq[1:] * 1e-6
     t_s = (t - t[0]) * 86400.0
 
-    ours = best_of(lambda: power_spectrum(lc), 7)
-    bare = best_of(lambda: scipy.fft.rfft(filled), 7)
+    # Interleave the two and keep the best of many: the machine is shared and noisy.
+    ours, bare = float("inf"), float("inf")
+    for _ in range(15):
+        ours = min(ours, best_of(lambda: power_spectrum(lc), 3))
+        bare = min(bare, best_of(lambda: scipy.fft.rfft(filled), 3))
     ls = LombScargle(t_s, y, normalization="psd")
     astropy_fast = best_of(lambda: ls.power(freq_hz, method="fast"), 2)
 

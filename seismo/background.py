@@ -158,6 +158,7 @@ class ComponentSum:
     components: tuple[Any, ...]
     nyquist: float
     highpass_uhz: float = 0.0
+    _cache: dict[str, Any] = field(default_factory=dict, repr=False, compare=False)
 
     @property
     def param_names(self) -> tuple[str, ...]:
@@ -177,8 +178,15 @@ class ComponentSum:
         return out
 
     def _weights(self, freq: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+        # The fit evaluates the model hundreds of times on the same bins: keep the
+        # attenuation factors of the last frequency array seen.
+        key = (freq.shape, float(freq.flat[0]), float(freq.flat[-1]), float(freq.sum()))
+        cached = self._cache.get("weights")
+        if cached is not None and cached[0] == key:
+            return cached[1]
         eta2 = np.sinc(freq / (2.0 * self.nyquist)) ** 2
         t2 = highpass_transmission(freq, self.highpass_uhz) ** 2
+        self._cache["weights"] = (key, (eta2, t2))
         return eta2, t2
 
     def parts(self, freq: np.ndarray, params: np.ndarray) -> dict[str, np.ndarray]:

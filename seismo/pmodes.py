@@ -27,7 +27,7 @@ from typing import Any
 
 import numpy as np
 from scipy import optimize, stats
-from scipy.ndimage import gaussian_filter1d
+from scipy.ndimage import gaussian_filter1d, uniform_filter1d
 
 from . import relations
 from .errors import OptionError
@@ -306,6 +306,30 @@ def _smooth(values: np.ndarray, fwhm: float, df: float) -> np.ndarray:
     return gaussian_filter1d(values, sigma=max(fwhm * FWHM_TO_SIGMA / df, 1e-3), mode="nearest")
 
 
+def _running_mean(values: np.ndarray, sigma_bins: float) -> np.ndarray:
+    """Broad Gaussian-like running mean in O(n): three boxcars of equal width.
+
+    Three passes of a boxcar of width w have the variance 3(w² − 1)/12 of a
+    Gaussian (central limit theorem), so w = √(4σ² + 1); for narrow kernels
+    the exact Gaussian is cheap and used instead.
+    """
+    if sigma_bins <= 30:
+        return gaussian_filter1d(values, sigma=sigma_bins, mode="nearest")
+    width = int(round(np.sqrt(4.0 * sigma_bins**2 + 1.0)))
+    out = values
+    for _ in range(3):  # three passes, not a loop over bins
+        out = uniform_filter1d(out, size=width, mode="nearest")
+    return out
+
+
+def _interp_uniform(x: np.ndarray, x0: float, dx: float, y: np.ndarray) -> np.ndarray:
+    """Linear interpolation on a uniform grid (clamped at the ends), no search."""
+    pos = np.clip((x - x0) / dx, 0.0, y.size - 1.000001)
+    i = pos.astype(np.int64)
+    frac = pos - i
+    return y[i] + frac * (y[i + 1] - y[i])
+
+
 def _kernel_dof(fwhm: float, df: float, oversample: float) -> float:
     """Effective number of independent χ²₂ bins averaged by the smoothing kernel."""
     impulse = np.zeros(801)
@@ -399,7 +423,7 @@ def large_separation(
     sel = (ps.freq >= lo) & (ps.freq <= hi)
     freq = ps.freq[sel]
     snr = ps.density[sel] / bg[sel]
-    x = snr - gaussian_filter1d(snr, predicted / df, mode="nearest")
+    x = snr - _running_mean(snr, predicted / df)
     w = np.exp(-0.5 * ((freq - numax) / sigma) ** 2)
     y = w * x
     max_lag = int(min(2.2 * search[1] / df, freq.size - 1))
@@ -494,7 +518,7 @@ class _Spectrum:
 
     def score(self, nu: np.ndarray, l: np.ndarray) -> np.ndarray:
         """Matched-filter statistic Σ h (ỹ(ν) ) over the last axis."""
-        values = np.interp(nu, self.freq, self.highpass)
+        values = _interp_uniform(nu, self.freq[0], self.freq[1] - self.freq[0], self.highpass)
         return np.sum(self.weight(nu, l) * values, axis=-1)
 
 
@@ -505,7 +529,7 @@ def _prepare(ps: PowerSpectrum, numax: float, bg: np.ndarray, dnu: float,
     sel = (ps.freq >= lo - margin) & (ps.freq <= hi + margin)
     snr = ps.density[sel] / bg[sel]
     smooth = _smooth(snr, width, ps.df)
-    highpass = smooth - gaussian_filter1d(snr, dnu / ps.df, mode="nearest")
+    highpass = smooth - _running_mean(snr, dnu / ps.df)
     dof = _kernel_dof(width, ps.df, ps.oversample)
     return (_Spectrum(ps.freq[sel], smooth, highpass, numax, sigma, lo, hi, width, dof,
                       float(ps.resolution)), flags)
