@@ -713,7 +713,7 @@ def detect_oscillations(
 
     detected = false_alarm < options.false_alarm
     if not detected:
-        flags.append(f"no_detection:false_alarm {false_alarm:.2g} above {options.false_alarm:g}")
+        flags.append("no_detection:false_alarm_above_threshold")
     elif not (nu_lo <= numax <= nu_hi):
         detected = False
         flags.append("no_detection:excess_outside_search_range")

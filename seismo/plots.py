@@ -267,7 +267,7 @@ def _draw_zoom(ax: Any, ps: PowerSpectrum, fit: Any, pattern: Any, result: Any) 
     kernel = np.ones(step) / step
     ax.plot(ps.freq[sel], np.convolve(snr, kernel, mode="same"), color=_DATA, lw=0.8,
             label="smoothed")
-    if pattern is not None:
+    if pattern is not None and "dnu_pattern_disagrees" not in pattern.flags:
         modes = pattern.modes
         for ell, colour, name in ((0, _SMOOTH, "l=0"), (2, _MARK, "l=2")):
             f = modes.frequency[modes.l == ell]
@@ -299,14 +299,18 @@ def _draw_echelle(ax: Any, ps: PowerSpectrum, fit: Any, pattern: Any, result: An
     top = float(np.percentile(finite, 99.7)) if finite.size else 1.0
     ax.pcolormesh(image.x, image.y, image.image, cmap=_echelle_colormap(), shading="auto",
                   norm=PowerNorm(0.6, vmin=0.0, vmax=max(top, 1.0)), rasterized=True)
+    rejected = "dnu_pattern_disagrees" in pattern.flags
     modes = pattern.modes
     for ell, marker, colour in ((0, "o", _SMOOTH), (2, "s", _MARK)):
-        sel = modes.l == ell
+        sel = (modes.l == ell) & (not rejected)
         if sel.any():
             x, y = echelle_coordinates(modes.frequency[sel], dnu, offset=image.offset)
             ax.plot(x, y, marker, mfc="none", mec=colour, ms=7, mew=1.5, ls="none",
                     label=f"fitted l={ell}")
     ax.set_xlabel(f"Frequency modulo Δν = {dnu:.4g} μHz (μHz)")
     ax.set_ylabel("Frequency (μHz)")
-    ax.set_title("Échelle diagram (power / background, smoothed)", fontsize=10)
-    ax.legend(loc="upper right", fontsize=8, frameon=True)
+    note = ("; pattern fit rejected (disagrees with the autocorrelation Δν), no modes shown"
+            if rejected else "")
+    ax.set_title(f"Échelle diagram (power / background, smoothed){note}", fontsize=10)
+    if not rejected:
+        ax.legend(loc="upper right", fontsize=8, frameon=True)
