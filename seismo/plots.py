@@ -88,24 +88,7 @@ def plot_lightcurve_spectrum(
     path.parent.mkdir(parents=True, exist_ok=True)
     fig, (ax_lc, ax_ps) = plt.subplots(2, 1, figsize=(10, 8), constrained_layout=True)
 
-    t0 = float(lc.time.min())
-    segments = lc.segment if lc.segment is not None else np.zeros(lc.n_points, dtype=int)
-    marker, size = ("o", 1.2) if lc.n_points < 20000 else (",", 1.0)
-    for parity, colour in ((0, _DATA), (1, _DATA_ALT)):
-        sel = segments % 2 == parity
-        ax_lc.plot(lc.time[sel] - t0, lc.flux[sel], marker, ms=size, ls="none", color=colour,
-                   rasterized=True)
-    ax_lc.set_xlabel(f"Time − {t0:.2f} (d)")
-    ax_lc.set_ylabel("Relative flux (ppm)")
-    n_seg = int(segments.max()) + 1 if segments.size else 0
-    ax_lc.set_title(
-        f"Conditioned light curve: {lc.n_points:,} points, {n_seg} segments "
-        f"(shades alternate by segment)",
-        fontsize=10,
-    )
-    spread = np.percentile(lc.flux, [0.1, 99.9])
-    pad = 0.1 * (spread[1] - spread[0])
-    ax_lc.set_ylim(spread[0] - pad, spread[1] + pad)
+    _draw_lightcurve(ax_lc, lc)
 
     pos = ps.freq > 0
     ax_ps.loglog(ps.freq[pos], ps.density[pos], color="#c8ced8", lw=0.3, rasterized=True,
