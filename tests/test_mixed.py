@@ -1,0 +1,224 @@
+"""Tests of seismo.mixed: ΔΠ1, q, ε_g and core rotation from dipole mixed modes.
+
+External checks: the asymptotic mixed-mode relation and the ζ function
+(Mosser et al. 2012, A&A 540, A143; Mosser et al. 2015, A&A 584, A50, from
+memory; REFERENCES.md §5), and injection and recovery on the team's
+synthetic light curves (seismo.simulate) with known truth.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import json
+
+import numpy as np
+import pytest
+
+from seismo import relations
+from seismo.errors import OptionError
+from seismo.mixed import FLAGS, PeriodSpacing, measure_mixed_modes, stretched_period
+from seismo.pipeline import analyze
+from seismo.pmodes import PModeList, RadialPattern
+from seismo.results import Measurement
+from seismo.simulate import OBSERVATIONS, PRESETS, simulate
+
+LONG = OBSERVATIONS["long-cadence-4yr"]
+
+# name: (preset, changes, seed). Truth ranges from REFERENCES §5d (from memory).
+STARS = {
+    "rgb_rotating": ("rgb-mid", {}, 1),  # ΔΠ1 78 s, q 0.14, rot 0.35 μHz, i = 70°
+    "rgb_still": ("rgb-mid", {"dpi1": 70.0, "q": 0.12, "rot_core": 0.0}, 100),
+    "rgb_high": ("rgb-high", {}, 103),  # ΔΠ1 86 s, q 0.16, rot 0.6 μHz
+    "rc_still": ("clump", {"dpi1": 250.0, "q": 0.25, "rot_core": 0.0}, 106),
+    "rc_rotating": ("clump", {}, 1),  # ΔΠ1 300 s, q 0.30, rot 0.10 μHz
+    "cl2_still": ("secondary-clump", {"dpi1": 160.0, "q": 0.3, "rot_core": 0.0}, 110),
+    "cl2_rotating": ("secondary-clump",
+                     {"dpi1": 240.0, "q": 0.25, "rot_core": 0.2, "inclination": 50.0}, 111),
+}
+
+
+def _inputs(sim):
+    a = analyze(sim.lightcurve())
+    ps = a.prepared.spectrum
+    return ps, a.detection.fit.background(ps.freq), a.result.numax.value, a.pattern
+
+
+@pytest.fixture(scope="module")
+def measured():
+    out = {}
+    for name, (preset, changes, seed) in STARS.items():
+        star = dataclasses.replace(PRESETS[preset], id=name, **changes)
+        sim = simulate(star, LONG, seed)
+        ps, bg, numax, pattern = _inputs(sim)
+        out[name] = (measure_mixed_modes(ps, bg, numax, pattern), sim.truth, (ps, bg, numax,
+                                                                              pattern))
+    return out
+
+
+def _truth_pattern(truth):
+    empty = np.empty(0)
+    modes = PModeList(empty.astype(int), empty.astype(int), empty, empty, empty)
+    return RadialPattern(
+        dnu=Measurement(truth["dnu"], 0.01), eps_p=Measurement(truth["eps_p"], 0.01),
+        alpha=Measurement(truth["alpha"], 0.001), d02=Measurement(truth["d02"], 0.01),
+        modes=modes,
+    )
+
+
+@pytest.mark.parametrize("name", list(STARS))
+def test_period_spacing_recovered(measured, name):
+    result, truth, _ = measured[name]
+    assert result.dpi1 is not None, result.flags
+    assert abs(result.dpi1.value / truth["dpi1"] - 1.0) < 0.02
+    # Error bars cover the truth (|χ| small, as in the BLS recovery tests).
+    assert abs(result.dpi1.value - truth["dpi1"]) < 4.0 * result.dpi1.error + 1e-3 * truth["dpi1"]
+    assert abs(result.q.value - truth["q"]) < 0.05
+    assert 0.0 <= result.eps_g.value < 1.0
+
+
+@pytest.mark.parametrize("name", ["rgb_rotating", "rgb_high", "cl2_rotating"])
+def test_core_rotation_recovered(measured, name):
+    result, truth, _ = measured[name]
+    assert result.rot_core is not None, result.flags
+    assert abs(result.rot_core.value - truth["rot_core"]) < max(
+        4.0 * result.rot_core.error, 0.05 * truth["rot_core"])
+    assert np.any(result.peaks.m != 0)
+
+
+@pytest.mark.parametrize("name", ["rgb_still", "cl2_still"])
+def test_no_rotation_flagged(measured, name):
+    result, _, _ = measured[name]
+    assert result.rot_core is None
+    assert "rot_core_not_detected" in result.flags
+
+
+def test_eps_g_recovered_when_still(measured):
+    result, truth, _ = measured["rgb_still"]
+    diff = (result.eps_g.value - truth["eps_g"] + 0.5) % 1.0 - 0.5
+    assert abs(diff) < 0.1
+
+
+def test_peaks_are_dipole_modes(measured):
+    result, truth, (ps, *_rest) = measured["rgb_rotating"]
+    l1 = np.array([m["frequency"] for m in truth["modes"] if m["l"] == 1])
+    near = np.min(np.abs(result.peaks.frequency[:, None] - l1[None, :]), axis=1)
+    # False alarm 1 % over the whole region: nearly every peak is a true l=1 mode.
+    assert np.mean(near < 3 * ps.df) > 0.8
+    assert np.sum(result.peaks.inlier) >= 0.8 * len(result.peaks)
+
+
+def test_echelle_and_dict(measured):
+    result, truth, _ = measured["rgb_still"]
+    ech = result.echelle()
+    assert ech["peak_x"].shape == result.peaks.frequency.shape
+    assert np.all((ech["peak_x"] >= 0) & (ech["peak_x"] < result.dpi1.value))
+    # Fitted modes line up on one ridge at ε_g ΔΠ1 (stretched-period échelle).
+    phase = ech["model_x"] / result.dpi1.value - result.eps_g.value
+    assert np.allclose((phase + 0.5) % 1.0 - 0.5, 0.0, atol=1e-3)
+    inl = result.peaks.inlier
+    phase = ech["peak_x"][inl] / result.dpi1.value - result.eps_g.value
+    assert np.median(np.abs((phase + 0.5) % 1.0 - 0.5)) < 0.05
+    text = json.dumps(result.as_dict())
+    assert '"dpi1"' in text and '"candidates"' in text
+    assert set(result.flags) <= set(FLAGS)
+    assert "PeriodSpacing" in repr(result)
+
+
+def test_runtime_per_star(measured):
+    import time
+
+    _, _, args = measured["rgb_rotating"]
+    start = time.perf_counter()
+    measure_mixed_modes(*args)
+    assert time.perf_counter() - start < 1.0  # ≈ 0.15 s unloaded; margin for CI
+
+
+def test_sector_gives_resolution_flag():
+    sim = simulate(PRESETS["rgb-high"], OBSERVATIONS["sector-2min"], 5)
+    a = analyze(sim.lightcurve())
+    ps = a.prepared.spectrum
+    bg = a.detection.null_fit.background(ps.freq)
+    result = measure_mixed_modes(ps, bg, sim.truth["numax"], _truth_pattern(sim.truth))
+    assert result.dpi1 is None and result.q is None
+    assert "dpi1_resolution" in result.flags
+
+
+def test_noise_only_gives_none():
+    quiet = dataclasses.replace(PRESETS["quiet"], numax=100.0)
+    obs = dataclasses.replace(LONG, duration=2 * 365.25)
+    sim = simulate(quiet, obs, 7)
+    a = analyze(sim.lightcurve())
+    ps = a.prepared.spectrum
+    bg = a.detection.null_fit.background(ps.freq)
+    truth = simulate(PRESETS["rgb-mid"], dataclasses.replace(obs, duration=10.0), 1).truth
+    result = measure_mixed_modes(ps, bg, 100.0, _truth_pattern(truth))
+    assert result.dpi1 is None
+    assert result.flags and set(result.flags) <= set(FLAGS)
+
+
+def test_too_faint_gives_none():
+    faint = dataclasses.replace(PRESETS["rgb-mid"], amplitude=6.0, white_noise=200.0)
+    obs = dataclasses.replace(LONG, duration=2 * 365.25)
+    sim = simulate(faint, obs, 8)
+    a = analyze(sim.lightcurve())
+    ps = a.prepared.spectrum
+    fit = a.detection.fit if a.detection.fit is not None else a.detection.null_fit
+    result = measure_mixed_modes(ps, fit.background(ps.freq), sim.truth["numax"],
+                                 _truth_pattern(sim.truth))
+    assert result.dpi1 is None
+    assert {"dpi1_few_peaks", "dpi1_no_periodicity"} & set(result.flags)
+
+
+def test_missing_eps_gives_flag(measured):
+    _, _, (ps, bg, numax, pattern) = measured["rgb_still"]
+    broken = dataclasses.replace(pattern, eps_p=None)
+    result = measure_mixed_modes(ps, bg, numax, broken)
+    assert isinstance(result, PeriodSpacing)
+    assert result.dpi1 is None and "dpi1_no_pattern" in result.flags
+
+
+def _asymptotic_modes(dpi1=80.0, q=0.15, eps_g=0.28):
+    # REFERENCES §5b numerical check: Δν = 4, ν_max = 30 (CALC).
+    dnu, numax = 4.0, 30.0
+    nu_p = relations.universal_pattern(np.arange(3, 10), 1, dnu, numax, 0.9, 0.0)
+    freq = relations.mixed_mode_frequencies(nu_p, dnu, dpi1, q, eps_g, 20.0, 40.0)
+    return freq, nu_p, dnu
+
+
+def test_stretched_periods_are_evenly_spaced():
+    # Mosser et al. 2015 (from memory): modes stretched with ζ are spaced by ΔΠ1.
+    freq, nu_p, dnu = _asymptotic_modes()
+    tau = stretched_period(freq, nu_p, dnu, 80.0, 0.15)
+    assert np.allclose(-np.diff(tau), 80.0, rtol=1e-6)
+    assert np.allclose(np.mod(tau, 80.0) / 80.0, 0.28, atol=1e-6)
+
+
+def test_period_spacing_is_zeta_dpi1():
+    # REFERENCES §5b (CALC): consecutive ΔP ≈ ζ(ν_mid) ΔΠ1 to about 1e-3.
+    freq, nu_p, dnu = _asymptotic_modes()
+    period = 1e6 / freq
+    mid = 0.5 * (freq[1:] + freq[:-1])
+    z = relations.zeta(mid, nu_p, dnu, 80.0, 0.15)
+    assert np.allclose(-np.diff(period) / 80.0, z, atol=3e-3)
+    # Extremes (REFERENCES §5b, CALC): ζ_min = [1 + 1/(q𝒩)]⁻¹ ≤ ΔP/ΔΠ1 < 1.
+    n_g = dnu / (mid**2 * 1e-6 * 80.0)
+    zeta_min = 1.0 / (1.0 + 1.0 / (0.15 * n_g))
+    ratio = -np.diff(period) / 80.0
+    assert np.all(ratio > zeta_min - 3e-3) and np.all(ratio < 1.0)
+    assert np.min(ratio - zeta_min) < 0.02  # the p-dominated modes reach it
+
+
+def test_bad_arguments(measured):
+    _, _, (ps, bg, numax, pattern) = measured["rgb_still"]
+    with pytest.raises(OptionError, match="false_alarm"):
+        measure_mixed_modes(ps, bg, numax, pattern, false_alarm=1.5)
+    with pytest.raises(OptionError, match="numax"):
+        measure_mixed_modes(ps, bg, -1.0, pattern)
+    with pytest.raises(OptionError, match="background"):
+        measure_mixed_modes(ps, bg[:-1], numax, pattern)
+    with pytest.raises(TypeError, match="PowerSpectrum"):
+        measure_mixed_modes(ps.freq, bg, numax, pattern)
+    with pytest.raises(TypeError, match="RadialPattern"):
+        measure_mixed_modes(ps, bg, numax, None)
+    with pytest.raises(OptionError, match="dpi1"):
+        stretched_period([10.0], [10.0], 1.0, -5.0, 0.1)
