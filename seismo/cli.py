@@ -245,13 +245,17 @@ def _human_summary(analysis: Any, figure: Path | None) -> str:
             f"  mass       {_fmt(r.mass, ' M☉', 3)}",
             f"  radius     {_fmt(r.radius, ' R☉', 3)}",
             f"  log g      {_fmt(r.logg, ' dex', 4)}",
+            f"  ΔΠ1        {_fmt(r.dpi1, ' s', 5)}",
+            f"  q          {_fmt(r.q, '', 3)}",
+            f"  ε_g        {_fmt(r.eps_g, '', 3)}",
+            f"  core rot.  {_fmt(r.rot_core, ' μHz', 3)}",
+            f"  state      {r.state}" + ("" if r.state_probability is None
+                                         else f" (probability {r.state_probability:.2f})"),
         ]
         if r.mass is not None:
             lines.append(f"  note       {BIAS_NOTE}")
-    shown = [f for f in r.flags if not f.endswith("_not_implemented")]
-    if shown:
-        lines.append(f"  flags      {', '.join(shown)}")
-    lines.append("  not yet    ΔΠ1, q and the evolutionary state (later releases)")
+    if r.flags:
+        lines.append(f"  flags      {', '.join(r.flags)}")
     if figure is not None:
         lines.append(f"  figure     {figure}")
     return "\n".join(lines)

@@ -27,8 +27,8 @@ from .spectrum import PowerSpectrum, power_spectrum
 __all__ = ["Prepared", "prepare", "summarize", "file_checksum", "Analysis", "analyze",
            "NOT_YET_MEASURED"]
 
-#: Flags for schema fields that later stages of the project will fill.
-NOT_YET_MEASURED = ("dpi1_not_implemented", "q_not_implemented", "state_not_implemented")
+#: Flags for schema fields that later stages of the project will fill (none left).
+NOT_YET_MEASURED: tuple[str, ...] = ()
 
 
 @dataclass(frozen=True, eq=False)
@@ -173,6 +173,10 @@ class Analysis:
         The search for an oscillation excess (with the background fits).
     pattern : object or None
         The radial-mode pattern (`seismo.pmodes.RadialPattern`), if measured.
+    mixed : object or None
+        The dipole mixed-mode measurement (`seismo.mixed.PeriodSpacing`).
+    state : object or None
+        The evolutionary-state classification (`seismo.state.StateResult`).
     scaling : object or None
         Scaling-relation estimates (`seismo.scaling.ScalingEstimates`).
     result : StarResult
@@ -184,6 +188,8 @@ class Analysis:
     pattern: Any
     scaling: Any
     result: StarResult
+    mixed: Any = None
+    state: Any = None
 
     @property
     def background(self) -> BackgroundFit:
@@ -230,8 +236,10 @@ def analyze(
         When the light curve cannot be analysed at all. Measurements that
         fail are flags in ``result.flags``, not exceptions.
     """
+    from .mixed import measure_mixed_modes
     from .pmodes import fit_radial_pattern, large_separation, reconcile
     from .scaling import scaling_estimates
+    from .state import classify_state
 
     config = config or AnalysisConfig()
     inputs = inputs or StarInputs()
@@ -257,7 +265,8 @@ def analyze(
         result = StarResult(
             id=star_id, detected=False,
             flags=tuple(flags + ["numax_not_measured", "dnu_not_measured",
-                                 "mass_radius_not_measured", *NOT_YET_MEASURED]),
+                                 "mass_radius_not_measured", "dpi1_not_measured",
+                                 "state_needs_detection"]),
             provenance=provenance, details=details,
         )
         return Analysis(prepared, detection, None, None, result)
@@ -302,9 +311,27 @@ def analyze(
     else:
         flags.append("mass_radius_not_measured")
 
+    mixed = None
+    if pattern is not None:
+        mixed = measure_mixed_modes(ps, background, numax.value, pattern)
+        flags += [f for f in mixed.flags if f not in flags]
+        details["mixed"] = mixed.as_dict()
+    else:
+        flags.append("dpi1_no_pattern")
+    dpi1 = None if mixed is None else mixed.dpi1
+    if dpi1 is None:
+        flags.append("dpi1_not_measured")
+
+    state = classify_state(dnu, dpi1, mass)
+    flags += list(state.reasons)
+    details["state"] = {"probabilities": state.probabilities, "reasons": list(state.reasons)}
+
     result = StarResult(
-        id=star_id, detected=True, numax=numax, dnu=dnu, eps_p=eps_p, mass=mass,
-        radius=radius, logg=logg, flags=tuple(flags + list(NOT_YET_MEASURED)),
+        id=star_id, detected=True, numax=numax, dnu=dnu, eps_p=eps_p, dpi1=dpi1,
+        q=None if mixed is None else mixed.q, mass=mass, radius=radius, logg=logg,
+        state=state.state, state_probability=state.probability, flags=tuple(flags),
         provenance=provenance, details=details,
+        eps_g=None if mixed is None else mixed.eps_g,
+        rot_core=None if mixed is None else mixed.rot_core,
     )
-    return Analysis(prepared, detection, pattern, scaling, result)
+    return Analysis(prepared, detection, pattern, scaling, result, mixed, state)

@@ -152,12 +152,14 @@ def plot_star(analysis: Any, path: str | os.PathLike[str]) -> Path:
     lc = analysis.prepared.lightcurve
     ps = analysis.prepared.spectrum
     result = analysis.result
-    fig = plt.figure(figsize=(13, 10), constrained_layout=True)
-    grid = fig.add_gridspec(3, 2, height_ratios=[0.8, 1.2, 1.2])
+    fig = plt.figure(figsize=(13, 14), constrained_layout=True)
+    grid = fig.add_gridspec(4, 2, height_ratios=[0.8, 1.2, 1.2, 1.3])
     ax_lc = fig.add_subplot(grid[0, :])
     ax_ps = fig.add_subplot(grid[1, 0])
     ax_zoom = fig.add_subplot(grid[1, 1])
     ax_ech = fig.add_subplot(grid[2, :])
+    ax_period = fig.add_subplot(grid[3, 0])
+    ax_state = fig.add_subplot(grid[3, 1])
 
     _draw_lightcurve(ax_lc, lc)
     fit = analysis.background
@@ -172,11 +174,26 @@ def plot_star(analysis: Any, path: str | os.PathLike[str]) -> Path:
     else:
         _placeholder(ax_ech, "Échelle diagram needs Δν: " + (
             "not measured" if result.detected else "no detection"))
+    mixed = getattr(analysis, "mixed", None)
+    if mixed is not None and mixed.dpi1 is not None:
+        _draw_period_echelle(ax_period, mixed)
+    else:
+        reason = ", ".join(f for f in result.flags if f.startswith("dpi1_")) or "no detection"
+        _placeholder(ax_period, f"Period échelle needs ΔΠ1: not measured\n({reason})")
+    if result.detected:
+        draw_state_diagram(ax_state, result.dnu, result.dpi1, result.state)
+    else:
+        _placeholder(ax_state, "No evolutionary state without a detection")
     title = f"{result.id}"
     if result.detected and result.numax is not None:
         title += f"   numax {result.numax.value:.3g} μHz"
         if result.dnu is not None:
             title += f"   Δν {result.dnu.value:.4g} μHz"
+        if result.dpi1 is not None:
+            title += f"   ΔΠ1 {result.dpi1.value:.4g} s"
+        title += f"   state {result.state}"
+        if result.state_probability is not None:
+            title += f" ({result.state_probability:.2f})"
     else:
         title += "   no oscillations detected"
     fig.suptitle(title, fontsize=13)
@@ -297,3 +314,72 @@ def _draw_echelle(ax: Any, ps: PowerSpectrum, fit: Any, pattern: Any, result: An
     ax.set_title(f"Échelle diagram (power / background, smoothed){note}", fontsize=10)
     if not rejected:
         ax.legend(loc="upper right", fontsize=8, frameon=True)
+
+
+# Region shades of our own choosing: slate for RGB, amber for RC, teal for 2CL.
+_STATE_COLOURS = {"RGB": "#64748b", "RC": "#d97706", "2CL": "#0f766e"}
+
+
+def draw_state_diagram(ax: Any, dnu: Any, dpi1: Any, state: str | None = None) -> None:
+    """Draw the (Δν, ΔΠ1) diagram with the evolutionary regions and one star.
+
+    Parameters
+    ----------
+    ax : matplotlib.axes.Axes
+        Target axes.
+    dnu, dpi1 : Measurement or None
+        The star's large separation (μHz) and period spacing (s); with ΔΠ1
+        missing, the star's Δν is drawn as a vertical band.
+    state : str, optional
+        The star's classified state, for the legend.
+    """
+    from matplotlib.patches import Rectangle
+
+    from .state import STATE_REGIONS
+
+    for name, region in STATE_REGIONS.items():
+        (x0, x1), (y0, y1) = region.dnu, region.dpi1
+        ax.add_patch(Rectangle((x0, y0), x1 - x0, y1 - y0, color=_STATE_COLOURS[name],
+                               alpha=0.18, lw=0, label=f"{name} region"))
+        ax.text(x1, y1, f" {name}", color=_STATE_COLOURS[name], fontsize=9, va="top",
+                ha="right")
+    label = "this star" + (f" ({state})" if state else "")
+    if dnu is not None and dpi1 is not None:
+        ax.errorbar([dnu.value], [dpi1.value], xerr=[dnu.error or 0], yerr=[dpi1.error or 0],
+                    fmt="o", color="#111827", ms=6, capsize=3, label=label)
+    elif dnu is not None:
+        ax.axvspan(dnu.value - (dnu.error or 0), dnu.value + (dnu.error or 0),
+                   color="#111827", alpha=0.35, label=label + ": Δν only (no ΔΠ1)")
+        ax.axvline(dnu.value, color="#111827", lw=1)
+    ax.set_xlim(2.0, 21.0)
+    ax.set_ylim(0.0, 400.0)
+    ax.set_xlabel("Δν (μHz)")
+    ax.set_ylabel("ΔΠ1 (s)")
+    ax.set_title("Seismic diagram and evolutionary regions", fontsize=10)
+    ax.legend(loc="upper right", fontsize=7, frameon=False)
+
+
+def _draw_period_echelle(ax: Any, mixed: Any) -> None:
+    """Stretched period modulo ΔΠ1 against frequency, peaks and fitted modes."""
+    data = mixed.echelle()
+    dpi1 = mixed.dpi1.value
+    # Shift so that the g-mode ridge (at ε_g ΔΠ1) sits in the middle of the panel.
+    shift = 0.5 * dpi1 - (mixed.eps_g.value * dpi1 if mixed.eps_g is not None else 0.0)
+    for key in ("model_x", "peak_x"):
+        data[key] = np.mod(data[key] + shift, dpi1)
+    colours = {-1: "#2563eb", 0: "#111827", 1: "#dc2626"}
+    for m, colour in colours.items():
+        sel = data["model_m"] == m
+        if sel.any():
+            ax.plot(data["model_x"][sel], data["model_freq"][sel], "_", color=colour, ms=9,
+                    alpha=0.5, label=f"fitted modes m={m:+d}" if m else "fitted modes m=0")
+        sel = data["peak_m"] == m
+        if sel.any():
+            ax.plot(data["peak_x"][sel], data["peak_freq"][sel], "o", mfc="none", mec=colour,
+                    ms=5, label=f"peaks m={m:+d}" if m else "peaks m=0")
+    ax.set_xlim(0, dpi1)
+    ax.set_xlabel(f"Stretched period modulo ΔΠ1 = {dpi1:.4g} s, ridge centred (s)")
+    ax.set_ylabel("Frequency (μHz)")
+    q = mixed.q.value if mixed.q is not None else float("nan")
+    ax.set_title(f"Period échelle of the dipole modes (q = {q:.3g})", fontsize=10)
+    ax.legend(loc="upper right", fontsize=7, frameon=True, ncol=2)

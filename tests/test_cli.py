@@ -26,12 +26,12 @@ def test_analyze_json_follows_the_schema(capsys):
     assert list(result)[: len(SCHEMA_FIELDS)] == list(SCHEMA_FIELDS)
     assert result["id"] == "HLD-0104"
     assert result["detected"] is True
-    for name in ("numax", "dnu", "eps_p", "mass", "radius", "logg"):
+    for name in ("numax", "dnu", "eps_p", "dpi1", "q", "mass", "radius", "logg"):
         assert set(result[name]) == {"value", "error"}
-    for name in ("dpi1", "q"):
-        assert result[name] is None
-        assert f"{name}_not_implemented" in result["flags"]
-    assert result["state"] == "unknown"
+    truth = json.loads((DEMO / "HLD-0104.truth.json").read_text())
+    assert result["dpi1"]["value"] == pytest.approx(truth["dpi1"], rel=0.02)
+    assert result["state"] == truth["state"] == "2CL"
+    assert result["state_probability"] > 0.9
     assert result["provenance"]["version"] == __version__
     assert result["provenance"]["input_checksum"].startswith("sha256:")
     assert len(result["provenance"]["config_hash"]) == 16
