@@ -31,6 +31,7 @@ from .results import Measurement
 from .spectrum import PowerSpectrum
 
 __all__ = [
+    "resolves_period_spacing",
     "measure_mixed_modes",
     "stretched_period",
     "PeriodSpacing",
@@ -679,6 +680,27 @@ def _empty(flags: list[str], inputs: dict[str, Any], freq: np.ndarray | None = N
     return PeriodSpacing(None, None, None, None, tuple(flags), peaks, candidates or [], inputs)
 
 
+def resolves_period_spacing(ps: PowerSpectrum, numax: float) -> bool:
+    """Whether the spectrum can resolve the g-mode spacing near numax.
+
+    The frequency spacing of g modes is ν²ΔΠ1; for the smallest plausible
+    ΔΠ1 (40 s) at numax it must span at least four resolution elements.
+
+    Parameters
+    ----------
+    ps : PowerSpectrum
+        The spectrum (its resolution and grid spacing, μHz).
+    numax : float
+        Frequency of maximum oscillation power, μHz.
+
+    Returns
+    -------
+    bool
+    """
+    g_spacing = numax**2 * _DPI1_RANGE[0] * 1e-6  # μHz
+    return bool(g_spacing >= _MIN_RESOLUTIONS * max(ps.resolution, ps.df))
+
+
 def measure_mixed_modes(
     ps: PowerSpectrum,
     background: Any,
@@ -766,8 +788,7 @@ def measure_mixed_modes(
     numax, bg = _validate(ps, background, numax, pattern, false_alarm)
     inputs: dict[str, Any] = {"numax": numax, "false_alarm": float(false_alarm)}
     df = ps.df
-    g_spacing = numax**2 * _DPI1_RANGE[0] * 1e-6  # μHz
-    if g_spacing < _MIN_RESOLUTIONS * max(ps.resolution, df):
+    if not resolves_period_spacing(ps, numax):
         return _empty(["dpi1_resolution"], inputs)
     if pattern.dnu is None or pattern.eps_p is None:
         return _empty(["dpi1_no_pattern"], inputs)

@@ -236,7 +236,7 @@ def analyze(
         When the light curve cannot be analysed at all. Measurements that
         fail are flags in ``result.flags``, not exceptions.
     """
-    from .mixed import measure_mixed_modes
+    from .mixed import measure_mixed_modes, resolves_period_spacing
     from .pmodes import fit_radial_pattern, large_separation, reconcile
     from .scaling import scaling_estimates
     from .state import classify_state
@@ -312,7 +312,9 @@ def analyze(
         flags.append("mass_radius_not_measured")
 
     mixed = None
-    if pattern is not None:
+    if not resolves_period_spacing(ps, numax.value):
+        flags.append("dpi1_resolution")
+    elif pattern is not None:
         mixed = measure_mixed_modes(ps, background, numax.value, pattern)
         flags += [f for f in mixed.flags if f not in flags]
         details["mixed"] = mixed.as_dict()
