@@ -222,3 +222,20 @@ def test_bad_arguments(measured):
         measure_mixed_modes(ps, bg, numax, None)
     with pytest.raises(OptionError, match="dpi1"):
         stretched_period([10.0], [10.0], 1.0, -5.0, 0.1)
+
+
+def test_resolution_rule_refuses_sectors_and_accepts_four_years():
+    # The g-mode spacing ν²ΔΠ1 (Tassoul 1980 asymptotics, from memory) at the smallest
+    # plausible ΔΠ1 = 40 s must span four resolution elements: 1/T = 0.0079 μHz for 4 years
+    # and 0.42 μHz for a 27.4-day sector (REFERENCES.md §9, CALC).
+    from seismo.mixed import resolves_period_spacing
+    from seismo.spectrum import PowerSpectrum
+
+    def spectrum(resolution):
+        freq = np.arange(0, 283.2, resolution)
+        return PowerSpectrum(freq, np.ones(freq.size), 283.2, resolution, 1.0, "fft")
+
+    assert resolves_period_spacing(spectrum(0.0079), 30.0)  # 0.036 μHz > 4 × 0.0079
+    assert not resolves_period_spacing(spectrum(0.42), 100.0)  # 0.4 μHz < 4 × 0.42
+    assert not resolves_period_spacing(spectrum(0.42), 200.0)
+    assert resolves_period_spacing(spectrum(0.42), 210.0)
