@@ -50,6 +50,8 @@ FLAGS: dict[str, str] = {
     "dpi1_ambiguous": "ΔΠ1 candidates fit about equally well, or the best fit is poor",
     "dpi1_rotation": "the rotational multiplets cannot be disentangled from the period "
                      "spacing",
+    "rot_core_unstable": "the core splitting differs between the peaks below and above "
+                         "numax: not reported",
     "rot_core_not_detected": "no significant rotational splitting of the mixed modes",
 }
 
@@ -867,7 +869,12 @@ def measure_mixed_modes(
     dpi1, q, eps_g, _, rot = win.params
     rot_core = None
     if win.rotating:
-        rot_core = Measurement.or_none(rot, err[4])
+        halves = _split_rotation(model, win, numax)
+        inputs["rot_halves"] = halves
+        if halves is not None and not _halves_agree(halves, rot, err[4]):
+            flags.append("rot_core_unstable")
+        else:
+            rot_core = Measurement.or_none(rot, err[4])
     else:
         flags.append("rot_core_not_detected")
     return PeriodSpacing(
@@ -875,6 +882,34 @@ def measure_mixed_modes(
         eps_g=Measurement.or_none(float(np.mod(eps_g, 1.0)), err[2]), rot_core=rot_core,
         flags=tuple(flags), peaks=peaks, candidates=candidates, inputs=inputs,
     )
+
+
+def _split_rotation(model: _Model, win: _Fit, numax: float) -> list[list[float]] | None:
+    """Refit the rotating solution on the peaks below and above numax separately.
+
+    A splitting that is real is found by both halves; one that only fits the
+    m-assignment of an alias (splittings close to the mode spacing, or slow
+    clump rotation blended with the linewidths) moves between them.
+    Returns ``[[rot, err], [rot, err]]`` or None when a half has too few peaks.
+    """
+    out = []
+    for half in (model.freq < numax, model.freq >= numax):
+        if half.sum() < 2 * _MIN_INLIERS:
+            return None
+        sub = _Model(model.freq[half], model.dnu, model.numax, model.eps, model.alpha,
+                     model.d01, model.orders, model.df)
+        fit = _refine(sub, win.params, True)
+        if fit.cov is None:
+            return None
+        out.append([float(fit.params[4]), float(np.sqrt(fit.cov[4, 4]))])
+    return out
+
+
+def _halves_agree(halves: list[list[float]], rot: float, err: float) -> bool:
+    """Both halves within 3 combined sigmas of each other and of the whole."""
+    (r1, e1), (r2, e2) = halves
+    tolerance = 3.0 * float(np.hypot(e1, e2))
+    return abs(r1 - r2) <= tolerance and max(abs(r1 - rot), abs(r2 - rot)) <= tolerance
 
 
 def _model_residuals(freq: np.ndarray, fit: _Fit, nu_p: np.ndarray, dnu: float, lo: float,

@@ -239,3 +239,29 @@ def test_resolution_rule_refuses_sectors_and_accepts_four_years():
     assert not resolves_period_spacing(spectrum(0.42), 100.0)  # 0.4 μHz < 4 × 0.42
     assert not resolves_period_spacing(spectrum(0.42), 200.0)
     assert resolves_period_spacing(spectrum(0.42), 210.0)
+
+
+def test_an_unstable_core_splitting_is_withdrawn():
+    # Regression case from benchmarks/mixed_accuracy.py: a clump star whose splitting
+    # (0.40 μHz) is close to its g-mode spacing ν²ΔΠ1 ≈ 0.35 μHz. The fit once reported
+    # 0.115 ± 0.003 μHz; the two halves of the peak list disagree, so it must be withdrawn.
+    from dataclasses import replace
+
+    from seismo.pipeline import analyze
+    from seismo.simulate import OBSERVATIONS, PRESETS, simulate
+
+    star = replace(PRESETS["clump"], id="T-ROT", numax=35.9757, dnu=4.13386, dpi1=274.008,
+                   q=0.34997, rot_core=0.40221, inclination=30.727, amplitude=93.1407,
+                   white_noise=55.7289, teff=4854.8)
+    result = analyze(simulate(star, OBSERVATIONS["long-cadence-4yr"], rng=1579503560)
+                     .lightcurve()).result
+    assert result.dpi1.value == pytest.approx(274.008, rel=0.01)
+    assert result.rot_core is None
+    assert "rot_core_unstable" in result.flags
+
+
+def test_halves_agreement_rule():
+    from seismo.mixed import _halves_agree
+
+    assert _halves_agree([[0.20, 0.005], [0.205, 0.005]], 0.202, 0.003)
+    assert not _halves_agree([[0.111, 0.004], [0.137, 0.004]], 0.115, 0.003)
