@@ -261,7 +261,7 @@ def test_an_unstable_core_splitting_is_withdrawn():
 
 
 def test_halves_agreement_rule():
-    from seismo.mixed import _halves_agree
+    from seismo.mixed.stage import _halves_agree
 
     assert _halves_agree([[0.20, 0.005], [0.205, 0.005]], 0.202, 0.003)
     assert not _halves_agree([[0.111, 0.004], [0.137, 0.004]], 0.115, 0.003)

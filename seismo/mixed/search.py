@@ -1,0 +1,65 @@
+"""ΔΠ1 candidates from the power of the stretched periods."""
+
+from __future__ import annotations
+
+import numpy as np
+
+from ..relations.mixed import _p_phase  # same θp convention as the forward model
+from .stretched import (
+    _unwrapped_arctan,
+)
+from .types import (
+    _DPI1_RANGE,
+    _Q_GRID,
+    _ROT_CYCLES,
+)
+
+__all__ = []
+
+# ---------------------------------------------------------------- candidate search
+
+def _search(freq: np.ndarray, nu_p: np.ndarray, dnu: float, numax: float
+            ) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray, float]:
+    """Stretched-period power over (ΔΠ1, q, rotation hypothesis).
+
+    Returns the ΔΠ1 grid (s), the normalised power, shape (n_grid, n_hyp),
+    the index of the best hypothesis at each grid value, the hypothesis table (q, rotation in
+    cycles of ΔΠ1 at ν_max, kernel constant a) and the number of
+    effectively independent trials.
+    """
+    period = 1e6 / freq
+    span = period.max() - period.min()
+    n_span = span / _DPI1_RANGE[0] + 2.0 * (nu_p.size + 1)
+    step = 1.0 / (3.0 * n_span)
+    dpi1 = np.exp(np.arange(np.log(_DPI1_RANGE[0]), np.log(_DPI1_RANGE[1]), step))
+    theta_p, _ = _p_phase(freq, nu_p, dnu)
+    # Columns: (q, rotation cycles u, kernel a): c_k = a + 2 cos(2π u ν_max²/ν_k²)
+    # for a triplet (a = 1) or a doublet (a = 0); u = 0 means no rotation.
+    q_h = np.repeat(_Q_GRID, 1 + 2 * _ROT_CYCLES.size)
+    u_h = np.tile(np.concatenate([[0.0], _ROT_CYCLES, _ROT_CYCLES]), _Q_GRID.size)
+    a_h = np.tile(np.concatenate([[1.0], np.ones(_ROT_CYCLES.size),
+                                  np.zeros(_ROT_CYCLES.size)]), _Q_GRID.size)
+    shift = _unwrapped_arctan(theta_p[:, None], q_h[None, :]) / np.pi  # (n_peaks, n_hyp)
+    beta = 2.0 * np.pi * u_h[None, :] * (numax / freq[:, None]) ** 2
+    kernel = np.where(u_h[None, :] > 0, a_h[None, :] + 2.0 * np.cos(beta), 1.0)
+    weights = (kernel * np.exp(-2j * np.pi * shift)).astype(np.complex64)
+    comb = np.exp(2j * np.pi * (period[None, :] / dpi1[:, None])).astype(np.complex64)
+    power = np.abs(comb @ weights) ** 2 / np.sum(kernel**2, axis=0)[None, :]
+    best = np.argmax(power, axis=1)
+    hyp = np.column_stack([q_h, u_h, a_h])
+    # Independent trials: ΔΠ1 grid oversampled 3×, about 3 independent q and
+    # one per 0.15 cycle of rotation (our estimate).
+    n_trials = dpi1.size / 3.0 * 3.0 * (1.0 + 2.0 * np.ptp(_ROT_CYCLES) / 0.15)
+    return dpi1, power, best, hyp, float(n_trials)
+
+
+def _local_maxima(y: np.ndarray, x: np.ndarray, n: int, min_sep: float) -> np.ndarray:
+    """Indices of the ``n`` highest local maxima of y, at least ``min_sep`` apart in ln x."""
+    inner = np.flatnonzero((y[1:-1] >= y[:-2]) & (y[1:-1] >= y[2:])) + 1
+    out: list[int] = []
+    for i in inner[np.argsort(y[inner])[::-1]]:  # a loop over candidates
+        if all(abs(np.log(x[i] / x[j])) > min_sep for j in out):
+            out.append(int(i))
+        if len(out) == n:
+            break
+    return np.array(out, dtype=np.int64)

@@ -1,0 +1,297 @@
+"""The stage: from a spectrum and a radial pattern to ΔΠ1, q, ε_g and core rotation."""
+
+from __future__ import annotations
+
+from typing import Any
+
+import numpy as np
+
+from .. import relations
+from ..relations import FWHM_TO_SIGMA
+from ..results import Measurement
+from ..spectrum import PowerSpectrum
+from .fit import (
+    _Fit,
+    _Model,
+    _refine,
+    _refine_candidate,
+)
+from .search import (
+    _local_maxima,
+    _search,
+)
+from .setup import (
+    _dipole_mask,
+    _find_peaks,
+    _validate,
+)
+from .types import (
+    _AMBIGUITY_MARGIN,
+    _DPI1_RANGE,
+    _MIN_INLIERS,
+    _MIN_PEAKS,
+    _MIN_RESOLUTIONS,
+    _MIN_SCORE,
+    _N_CANDIDATES,
+    _TYPICAL_LINEWIDTH,
+    _WINDOW_SIGMAS,
+    DipolePeaks,
+    PeriodSpacing,
+)
+
+__all__ = ["measure_mixed_modes", "resolves_period_spacing"]
+
+# ---------------------------------------------------------------- the stage
+
+def _empty(flags: list[str], inputs: dict[str, Any], freq: np.ndarray | None = None,
+           snr: np.ndarray | None = None, candidates: list[dict[str, Any]] | None = None
+           ) -> PeriodSpacing:
+    freq = np.empty(0) if freq is None else freq
+    snr = np.empty(0) if snr is None else snr
+    peaks = DipolePeaks(freq, snr, np.zeros(freq.size, dtype=np.int64),
+                        np.zeros(freq.size, dtype=bool), np.full(freq.size, np.nan))
+    return PeriodSpacing(None, None, None, None, tuple(flags), peaks, candidates or [], inputs)
+
+
+def resolves_period_spacing(ps: PowerSpectrum, numax: float) -> bool:
+    """Whether the spectrum can resolve the g-mode spacing near numax.
+
+    The frequency spacing of g modes is ν²ΔΠ1; for the smallest plausible
+    ΔΠ1 (40 s) at numax it must span at least four resolution elements.
+
+    Parameters
+    ----------
+    ps : PowerSpectrum
+        The spectrum (its resolution and grid spacing, μHz).
+    numax : float
+        Frequency of maximum oscillation power, μHz.
+
+    Returns
+    -------
+    bool
+    """
+    g_spacing = numax**2 * _DPI1_RANGE[0] * 1e-6  # μHz
+    return bool(g_spacing >= _MIN_RESOLUTIONS * max(ps.resolution, ps.df))
+
+
+def measure_mixed_modes(
+    ps: PowerSpectrum,
+    background: Any,
+    numax: float,
+    pattern: Any,
+    *,
+    false_alarm: float = 0.9,
+) -> PeriodSpacing:
+    """Measure ΔΠ1, q, ε_g and the core rotation from the dipole mixed modes.
+
+    Parameters
+    ----------
+    ps : PowerSpectrum
+        Power density spectrum, ppm²/μHz, on a uniform grid (μHz).
+    background : float or array_like, shape (n_freq,)
+        Background density (granulation + white noise, no envelope) on
+        ``ps.freq``, ppm²/μHz.
+    numax : float
+        Frequency of maximum oscillation power, μHz.
+    pattern : seismo.pmodes.RadialPattern
+        Radial pattern of the star; its ``dnu``, ``eps_p``, ``alpha`` and
+        ``d02`` locate the l=0, 2 (and 3) modes to exclude and the nominal
+        l=1 p modes.
+    false_alarm : float
+        Expected number of pure-noise bins of the dipole region that pass the
+        peak threshold S/B > −ln(false_alarm / N) over its N bins (χ²₂
+        statistics), i.e. about one noise peak per star at the default 0.9.
+        A low level keeps too few peaks for the faint g-dominated modes of
+        evolved RGB and clump stars; the few noise peaks admitted are absorbed
+        by the mixture likelihood of the fit, and the periodicity must still
+        pass `_MIN_SCORE`, calibrated on shuffled peak lists at this level.
+
+    Returns
+    -------
+    PeriodSpacing
+        ``dpi1`` (s), ``q``, ``eps_g``, ``rot_core`` (μHz) or ``None`` with
+        flags from `FLAGS`.
+
+    Raises
+    ------
+    TypeError
+        If ``ps`` is not a `PowerSpectrum` or ``pattern`` lacks the pattern
+        attributes.
+    OptionError
+        If ``numax`` is not positive or above the spectrum, ``background``
+        has the wrong shape or is not positive, or ``false_alarm`` is not in
+        (0, 1).
+
+    Notes
+    -----
+    1. Window ν_max ± 2.5 σ_env. Bins within max(0.045 Δν, 2 Γ0, 3 δf) of the
+       l=0 and l=2 modes of the pattern, and within max(0.02 Δν, Γ0, 3 δf) of
+       the l=3 modes (d03 of `seismo.relations.d03_from_dnu`), are excluded.
+    2. Peaks: local maxima of S/B = density/background above
+       −ln(p/N), N the number of dipole bins and p = ``false_alarm``. For
+       χ²₂ noise P(S/B > x) = e^{−x} per bin, so noise alone gives a peak
+       with probability ≈ p. Peaks closer than max(2.5 δf, Γ0/2) are merged.
+    3. Candidates: for trial (ΔΠ1, q) the stretched periods τ_k
+       (`stretched_period`, Mosser et al. 2015; Vrard et al. 2016) give the
+       normalised power |Σ_k c_k exp(2πi τ_k/ΔΠ1)|² / Σ c_k², exponentially
+       distributed with mean 1 for random peaks. Rotation adds hypotheses in
+       which each peak may be any component m of a multiplet: the m-ridge is
+       shifted by δτ ≈ m δν_rot,core/ν², giving weights
+       c_k = a + 2 cos(2π δν_rot,core/(ν_k² ΔΠ1)), a = 1 (triplet) or 0
+       (doublet). The ΔΠ1 grid (40–400 s) is fine enough that adjacent
+       trial values differ by a third of a cycle across the peaks.
+    4. Refinement of each candidate (aliases included): robust (Cauchy)
+       least squares of the frequency residuals δν_k = ζ ν² ΔΠ1 δτ_k of the
+       implicit relation tan θp = q tan θg, with free ΔΠ1, q, ε_g, an offset
+       of d01, and δν_rot,core when rotating (m of each peak re-assigned).
+       The residual phase τ/ΔΠ1 − ε_g vanishes (mod 1) exactly on the roots
+       computed by `seismo.relations.mixed_mode_frequencies`. Candidates are
+       compared by a mixture log-likelihood of all peaks (mixed mode or
+       uniform background); rotation is kept if it improves it by more than
+       12. Errors come from the Jacobian of the inliers, scaled by the
+       reduced χ² when it exceeds 1.
+
+    References
+    ----------
+    Mosser B. et al. 2012, A&A 540, A143 (asymptotic fit of mixed modes);
+    Mosser B. et al. 2015, A&A 584, A50 (stretched periods, from memory);
+    Vrard M. et al. 2016, A&A 588, A87 (automated ΔΠ1 from stretched
+    periods); Goupil M.-J. et al. 2013, A&A 549, A75 (splitting ζ δν_rot).
+    """
+    numax, bg = _validate(ps, background, numax, pattern, false_alarm)
+    inputs: dict[str, Any] = {"numax": numax, "false_alarm": float(false_alarm)}
+    df = ps.df
+    if not resolves_period_spacing(ps, numax):
+        return _empty(["dpi1_resolution"], inputs)
+    if pattern.dnu is None or pattern.eps_p is None:
+        return _empty(["dpi1_no_pattern"], inputs)
+    dnu, eps = float(pattern.dnu.value), float(pattern.eps_p.value)
+    alpha = float(pattern.alpha.value) if pattern.alpha is not None \
+        else float(relations.curvature_from_dnu(dnu))
+    d02 = float(pattern.d02.value) if pattern.d02 is not None \
+        else float(relations.d02_from_dnu(dnu))
+    sigma_env = float(relations.envelope_fwhm(numax)) * FWHM_TO_SIGMA
+    lo = max(numax - _WINDOW_SIGMAS * sigma_env, float(ps.freq[1]))
+    hi = min(numax + _WINDOW_SIGMAS * sigma_env, float(ps.freq[-1]), float(ps.nyquist))
+    inputs.update(dnu=dnu, eps_p=eps, alpha=alpha, window=(lo, hi))
+
+    mask = _dipole_mask(ps.freq, lo, hi, numax, dnu, eps, alpha, d02, df)
+    n_bins = int(mask.sum())
+    threshold = -np.log(false_alarm / max(n_bins, 1))
+    inputs.update(threshold=float(threshold), n_bins=n_bins)
+    freq, snr = _find_peaks(ps.freq, ps.density / bg, mask, threshold,
+                            max(2.5 * df, 0.5 * _TYPICAL_LINEWIDTH))
+    if freq.size < _MIN_PEAKS:
+        return _empty(["dpi1_few_peaks"], inputs, freq, snr)
+
+    d01 = float(relations.d01_from_dnu(dnu))
+    orders = np.arange(np.floor(lo / dnu - eps) - 2, np.ceil(hi / dnu - eps) + 2)
+    model = _Model(freq, dnu, numax, eps, alpha, d01, orders, df)
+    nu_p0 = model.nu_p(0.0)
+    grid, power_all, best, hyp, n_trials = _search(freq, nu_p0, dnu, numax)
+    power = power_all[np.arange(grid.size), best]
+    inputs["search_level"] = float(np.log(n_trials / false_alarm))
+    picks = _local_maxima(power, grid, _N_CANDIDATES, 0.02)
+    if picks.size == 0:
+        return _empty(["dpi1_no_periodicity"], inputs, freq, snr)
+
+    fits: list[_Fit] = []
+    candidates: list[dict[str, Any]] = []
+    for i in picks:  # a loop over a few candidates
+        fit = _refine_candidate(model, grid[i], power_all[i], hyp, numax)
+        q0, u0, _ = hyp[best[i]]
+        fits.append(fit)
+        candidates.append({
+            "dpi1": float(grid[i]), "q": float(q0),
+            "rotation": float(u0 * numax**2 * grid[i] * 1e-6),
+            "power": float(power[i]), "fit_dpi1": float(fit.params[0]),
+            "fit_q": float(fit.params[1]), "fit_rotation": float(fit.params[4]),
+            "score": fit.score, "n_inliers": float(np.sum(fit.inlier)),
+        })
+
+    order = np.argsort([-f.score for f in fits])
+    win = fits[order[0]]
+    flags: list[str] = []
+    rivals = [fits[j] for j in order[1:]
+              if abs(fits[j].params[0] / win.params[0] - 1.0) > 0.01]
+    if rivals and rivals[0].score > win.score - _AMBIGUITY_MARGIN:
+        flags.append("dpi1_rotation" if win.rotating or rivals[0].rotating
+                     else "dpi1_ambiguous")
+    n_in = int(np.sum(win.inlier))
+    if n_in < _MIN_INLIERS or win.score < _MIN_SCORE:
+        flags.append("dpi1_no_periodicity")
+    elif n_in < 0.3 * freq.size or win.cov is None:
+        flags.append("dpi1_ambiguous")
+
+    nu_p = model.nu_p(win.params[3])
+    resid = _model_residuals(freq, win, nu_p, dnu, lo, hi)
+    rms = float(np.sqrt(np.mean(resid[win.inlier] ** 2))) if n_in else float("nan")
+    inputs.update(d01=d01 + float(win.params[3]), nu_p=[float(x) for x in nu_p],
+                  residual_rms=rms, n_inliers=n_in)
+    if not np.isfinite(rms) or rms > 3.0 * float(np.median(win.sigma)):
+        flags.append("dpi1_ambiguous")
+    peaks = DipolePeaks(freq, snr, win.m if win.rotating else np.zeros(freq.size, np.int64),
+                        win.inlier, win.zeta)
+    if flags:
+        return PeriodSpacing(None, None, None, None, tuple(dict.fromkeys(flags)), peaks,
+                             candidates, inputs)
+
+    err = np.sqrt(np.diag(win.cov))
+    dpi1, q, eps_g, _, rot = win.params
+    rot_core = None
+    if win.rotating:
+        halves = _split_rotation(model, win, numax)
+        inputs["rot_halves"] = halves
+        if halves is not None and not _halves_agree(halves, rot, err[4]):
+            flags.append("rot_core_unstable")
+        else:
+            rot_core = Measurement.or_none(rot, err[4])
+    else:
+        flags.append("rot_core_not_detected")
+    return PeriodSpacing(
+        dpi1=Measurement.or_none(dpi1, err[0]), q=Measurement.or_none(q, err[1]),
+        eps_g=Measurement.or_none(float(np.mod(eps_g, 1.0)), err[2]), rot_core=rot_core,
+        flags=tuple(flags), peaks=peaks, candidates=candidates, inputs=inputs,
+    )
+
+
+def _split_rotation(model: _Model, win: _Fit, numax: float) -> list[list[float]] | None:
+    """Refit the rotating solution on the peaks below and above numax separately.
+
+    A splitting that is real is found by both halves; one that only fits the
+    m-assignment of an alias (splittings close to the mode spacing, or slow
+    clump rotation blended with the linewidths) moves between them.
+    Returns ``[[rot, err], [rot, err]]`` or None when a half has too few peaks.
+    """
+    out = []
+    for half in (model.freq < numax, model.freq >= numax):
+        if half.sum() < 2 * _MIN_INLIERS:
+            return None
+        sub = _Model(model.freq[half], model.dnu, model.numax, model.eps, model.alpha,
+                     model.d01, model.orders, model.df)
+        fit = _refine(sub, win.params, True)
+        if fit.cov is None:
+            return None
+        out.append([float(fit.params[4]), float(np.sqrt(fit.cov[4, 4]))])
+    return out
+
+
+def _halves_agree(halves: list[list[float]], rot: float, err: float) -> bool:
+    """Both halves within 3 combined sigmas of each other and of the whole."""
+    (r1, e1), (r2, e2) = halves
+    tolerance = 3.0 * float(np.hypot(e1, e2))
+    return abs(r1 - r2) <= tolerance and max(abs(r1 - rot), abs(r2 - rot)) <= tolerance
+
+
+def _model_residuals(freq: np.ndarray, fit: _Fit, nu_p: np.ndarray, dnu: float, lo: float,
+                     hi: float) -> np.ndarray:
+    """Distance of each peak to the nearest component of the root-found model, μHz."""
+    dpi1, q, eps_g, _, rot = fit.params
+    centre = relations.mixed_mode_frequencies(nu_p, dnu, dpi1, q, eps_g, lo - dnu, hi + dnu)
+    if centre.size == 0:
+        return np.full(freq.size, np.inf)
+    z = np.asarray(relations.zeta(centre, nu_p, dnu, dpi1, q))
+    comps = np.sort((centre[:, None] + np.array([-1, 0, 1])[None, :] * z[:, None]
+                     * (rot if fit.rotating else 0.0)).ravel())
+    idx = np.clip(np.searchsorted(comps, freq), 1, comps.size - 1)
+    return np.minimum(np.abs(freq - comps[idx - 1]), np.abs(freq - comps[idx]))

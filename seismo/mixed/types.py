@@ -1,0 +1,234 @@
+"""Result types, flags and constants of the mixed-mode stage."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from typing import Any
+
+import numpy as np
+
+from .. import relations
+from ..results import Measurement
+from .stretched import (
+    _unsplit,
+    stretched_period,
+)
+
+__all__ = ["DipolePeaks", "FLAGS", "PeriodSpacing"]
+
+#: Flags `measure_mixed_modes` may set, with their meaning.
+FLAGS: dict[str, str] = {
+    "dpi1_no_pattern": "Δν or ε_p of the radial pattern is missing: the dipole region "
+                       "cannot be located",
+    "dpi1_resolution": "the frequency resolution is too coarse for the g-mode spacing "
+                       "ν_max² ΔΠ1 of the smallest plausible ΔΠ1",
+    "dpi1_few_peaks": "too few significant peaks in the dipole region",
+    "dpi1_no_periodicity": "no significant periodicity in the stretched periods",
+    "dpi1_ambiguous": "ΔΠ1 candidates fit about equally well, or the best fit is poor",
+    "dpi1_rotation": "the rotational multiplets cannot be disentangled from the period "
+                     "spacing",
+    "rot_core_unstable": "the core splitting differs between the peaks below and above "
+                         "numax: not reported",
+    "rot_core_not_detected": "no significant rotational splitting of the mixed modes",
+}
+
+# Plausible ΔΠ1 range searched, s (REFERENCES §5d, from memory).
+_DPI1_RANGE = (40.0, 400.0)
+# The g-mode spacing ν_max² ΔΠ1,min must span at least this many resolutions.
+_MIN_RESOLUTIONS = 4.0
+# Half-width of the analysis window in Gaussian σ of the envelope (as pmodes).
+_WINDOW_SIGMAS = 2.5
+# Typical radial-mode linewidth Γ0, μHz (Vrard et al. 2018; value from memory).
+_TYPICAL_LINEWIDTH = 0.12
+# Excluded half-widths around l=0, 2, 3: a fraction of Δν and a multiple of Γ0.
+_EXCLUDE_DNU = {0: 0.045, 2: 0.045, 3: 0.02}
+_EXCLUDE_WIDTHS = {0: 2.0, 2: 2.0, 3: 1.0}
+_MIN_PEAKS = 10
+_MIN_INLIERS = 8
+# Trial couplings of the stretched-period search (dimensionless).
+_Q_GRID = np.array([0.04, 0.08, 0.12, 0.17, 0.23, 0.3, 0.4, 0.52])
+# Trial rotation shifts of the m = ±1 ridges at ν_max, in units of ΔΠ1
+# (δτ = δν_rot,core / ν², Mosser et al. 2015, from memory).
+_ROT_CYCLES = np.linspace(0.04, 0.7, 23)
+_N_CANDIDATES = 4
+# Mixture log-likelihood margins (natural log units) to prefer a candidate or
+# to keep rotation.
+_AMBIGUITY_MARGIN = 8.0
+# The winner must reach this score. Calibration: the peak lists of the four
+# oscillating demo stars at false_alarm 0.9, with the peaks moved to random
+# dipole-region bins (48 shuffles), never scored above 18.3; real lists score
+# 28–160.
+_MIN_SCORE = 22.0
+# Rotation is kept when it explains this many more peaks (count and fraction
+# of all peaks) without lowering the mixture score by more than the loss.
+_ROTATION_GAIN = 4
+_ROTATION_FRACTION = 0.15
+_ROTATION_SCORE_LOSS = 5.0
+
+
+# ---------------------------------------------------------------- result types
+
+@dataclass(frozen=True, eq=False)
+class DipolePeaks:
+    """Significant peaks of the dipole region, aligned arrays of shape (n_peaks,).
+
+    Attributes
+    ----------
+    frequency : ndarray
+        Peak frequency, μHz.
+    snr : ndarray
+        Signal-to-noise ratio S/B of the peak bin (1 = noise level).
+    m : ndarray of int
+        Azimuthal order assigned by the best fit (0 without rotation).
+    inlier : ndarray of bool
+        Whether the best fit explains the peak as a mixed mode.
+    zeta : ndarray
+        ζ of the peak in the best fit (NaN without a fit).
+    """
+
+    frequency: np.ndarray
+    snr: np.ndarray
+    m: np.ndarray
+    inlier: np.ndarray
+    zeta: np.ndarray
+
+    def __len__(self) -> int:
+        return int(self.frequency.size)
+
+    def __repr__(self) -> str:
+        return f"<DipolePeaks n={len(self)} n_inliers={int(np.sum(self.inlier))}>"
+
+
+@dataclass(frozen=True, eq=False)
+class PeriodSpacing:
+    """Result of `measure_mixed_modes`.
+
+    Attributes
+    ----------
+    dpi1 : Measurement or None
+        Asymptotic dipole period spacing ΔΠ1, s.
+    q : Measurement or None
+        Coupling factor (dimensionless).
+    eps_g : Measurement or None
+        g-mode offset in [0, 1) (dimensionless), in the convention of
+        `seismo.relations.mixed_mode_frequencies`: pure g modes at
+        1/ν = (n_g + 1/2 + ε_g) ΔΠ1.
+    rot_core : Measurement or None
+        Rotational splitting of pure g modes δν_rot,core, μHz; a mode of
+        trapped fraction ζ is split by ζ δν_rot,core.
+    flags : tuple of str
+        Keys of `FLAGS`.
+    peaks : DipolePeaks
+        The significant l=1 peaks used.
+    candidates : list of dict
+        Each ΔΠ1 candidate of the stretched-period search: ``dpi1`` (s),
+        ``q``, ``rotation`` (μHz, 0 without), ``power`` (normalised
+        stretched-period power), and after refinement ``fit_dpi1``,
+        ``fit_q``, ``score`` (mixture log-likelihood of the peaks), and
+        ``n_inliers``.
+    inputs : dict
+        ``numax``, ``dnu``, ``eps_p``, ``alpha``, ``window`` (μHz),
+        ``threshold`` (S/B), ``false_alarm``, ``n_bins``, ``d01`` (the fitted
+        offset of the nominal l=1 p modes in units of Δν, relation value
+        included), ``nu_p`` (list of nominal l=1 p modes, μHz),
+        ``residual_rms`` (μHz, inliers against `mixed_mode_frequencies`).
+    """
+
+    dpi1: Measurement | None
+    q: Measurement | None
+    eps_g: Measurement | None
+    rot_core: Measurement | None
+    flags: tuple[str, ...]
+    peaks: DipolePeaks
+    candidates: list[dict[str, Any]] = field(default_factory=list)
+    inputs: dict[str, Any] = field(default_factory=dict)
+
+    def model_frequencies(self) -> tuple[np.ndarray, np.ndarray]:
+        """Mode frequencies of the best fit in the analysis window.
+
+        Returns
+        -------
+        frequency : ndarray, shape (n_modes,)
+            Mixed-mode component frequencies, μHz, from
+            `seismo.relations.mixed_mode_frequencies` split by m ζ δν_rot.
+        m : ndarray of int, shape (n_modes,)
+            Azimuthal order of each component (only 0 without rotation).
+        """
+        if self.dpi1 is None or self.q is None or self.eps_g is None:
+            return np.empty(0), np.empty(0, dtype=np.int64)
+        nu_p = np.asarray(self.inputs["nu_p"], dtype=np.float64)
+        lo, hi = self.inputs["window"]
+        dnu = self.inputs["dnu"]
+        centre = relations.mixed_mode_frequencies(
+            nu_p, dnu, self.dpi1.value, self.q.value, self.eps_g.value, lo, hi)
+        rot = 0.0 if self.rot_core is None else self.rot_core.value
+        orders = np.array([-1, 0, 1]) if rot > 0 else np.array([0])
+        if centre.size == 0:
+            return centre, np.empty(0, dtype=np.int64)
+        z = np.asarray(relations.zeta(centre, nu_p, dnu, self.dpi1.value, self.q.value))
+        freq = (centre[:, None] + orders[None, :] * z[:, None] * rot).ravel()
+        m = np.broadcast_to(orders, (centre.size, orders.size)).ravel()
+        return freq, m.copy()
+
+    def echelle(self) -> dict[str, np.ndarray] | None:
+        """Stretched-period échelle coordinates of the peaks and the fitted modes.
+
+        Returns
+        -------
+        dict or None
+            ``None`` without a ΔΠ1. Otherwise ``peak_x`` (τ mod ΔΠ1, s) and
+            ``peak_freq`` (μHz) for the m = 0-equivalent peaks, shape
+            (n_peaks,), ``peak_m``; ``model_x``, ``model_freq``, ``model_m``
+            for the fitted components, shape (n_modes,). τ is computed at
+            the frequency corrected for rotation (ν − m ζ δν_rot), so all
+            azimuthal orders of a mode fall on one vertical ridge at
+            x ≈ ε_g ΔΠ1.
+        """
+        if self.dpi1 is None or self.q is None:
+            return None
+        nu_p = np.asarray(self.inputs["nu_p"], dtype=np.float64)
+        dnu, dpi1, q = self.inputs["dnu"], self.dpi1.value, self.q.value
+        rot = 0.0 if self.rot_core is None else self.rot_core.value
+
+        def coords(freq: np.ndarray, m: np.ndarray) -> np.ndarray:
+            if freq.size == 0:
+                return np.empty(0)
+            centre = _unsplit(freq, m, nu_p, dnu, dpi1, q, rot)
+            return np.mod(stretched_period(centre, nu_p, dnu, dpi1, q), dpi1)
+
+        model_freq, model_m = self.model_frequencies()
+        return {
+            "peak_x": coords(self.peaks.frequency, self.peaks.m),
+            "peak_freq": self.peaks.frequency.copy(),
+            "peak_m": self.peaks.m.copy(),
+            "model_x": coords(model_freq, model_m),
+            "model_freq": model_freq,
+            "model_m": model_m,
+        }
+
+    def as_dict(self) -> dict[str, Any]:
+        """JSON-able summary: measurements, flags, peaks, candidates and inputs."""
+
+        def meas(x: Measurement | None) -> dict[str, Any] | None:
+            return None if x is None else x.to_dict()
+
+        peaks = [
+            {"frequency": float(f), "snr": float(s), "m": int(m), "inlier": bool(i)}
+            for f, s, m, i in zip(self.peaks.frequency, self.peaks.snr, self.peaks.m,
+                                  self.peaks.inlier, strict=True)
+        ]
+        return {
+            "dpi1": meas(self.dpi1), "q": meas(self.q), "eps_g": meas(self.eps_g),
+            "rot_core": meas(self.rot_core), "flags": list(self.flags), "peaks": peaks,
+            "candidates": [{k: float(v) for k, v in c.items()} for c in self.candidates],
+            "inputs": {k: (list(v) if isinstance(v, (list, tuple)) else v)
+                       for k, v in self.inputs.items()},
+        }
+
+    def __repr__(self) -> str:
+        def show(x: Measurement | None) -> str:
+            return "None" if x is None else f"{x.value:.5g}±{x.error:.2g}"
+
+        return (f"<PeriodSpacing dpi1={show(self.dpi1)} q={show(self.q)} "
+                f"eps_g={show(self.eps_g)} rot_core={show(self.rot_core)} "
+                f"n_peaks={len(self.peaks)} flags={list(self.flags)}>")
