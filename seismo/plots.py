@@ -383,3 +383,136 @@ def _draw_period_echelle(ax: Any, mixed: Any) -> None:
     q = mixed.q.value if mixed.q is not None else float("nan")
     ax.set_title(f"Period échelle of the dipole modes (q = {q:.3g})", fontsize=10)
     ax.legend(loc="upper right", fontsize=7, frameon=True, ncol=2)
+
+
+def _density_or_points(ax: Any, x: np.ndarray, y: np.ndarray, colour: str, label: str,
+                       extent: tuple[float, float, float, float], log_x: bool = False,
+                       log_y: bool = False) -> None:
+    """Markers for a few hundred stars; shaded 2-D density beyond (readable at 10^5)."""
+    good = np.isfinite(x) & np.isfinite(y)
+    x, y = x[good], y[good]
+    if x.size == 0:
+        return
+    if x.size <= 1500:
+        ax.plot(x, y, "o", ms=3, color=colour, alpha=0.7, ls="none", label=f"{label} ({x.size})")
+        return
+    from matplotlib.colors import LinearSegmentedColormap
+
+    cmap = LinearSegmentedColormap.from_list(f"density_{label}", ["#ffffff00", colour])
+    tx = np.log10 if log_x else (lambda v: v)
+    ty = np.log10 if log_y else (lambda v: v)
+    xb = np.linspace(tx(extent[0]), tx(extent[1]), 160)
+    yb = np.linspace(ty(extent[2]), ty(extent[3]), 160)
+    hist, _, _ = np.histogram2d(tx(x), ty(y), bins=[xb, yb])
+    hist = np.where(hist > 0, np.log10(hist + 1.0), np.nan)
+    ex = 10**xb if log_x else xb
+    ey = 10**yb if log_y else yb
+    ax.pcolormesh(ex, ey, hist.T, cmap=cmap, shading="auto", rasterized=True)
+    ax.plot([], [], "s", color=colour, label=f"{label} ({x.size:,}, log density)")
+
+
+def _column(table: Any, name: str) -> np.ndarray:
+    if name not in table.colnames:
+        return np.full(len(table), np.nan)
+    col = table[name]
+    values = np.ma.filled(np.ma.asarray(getattr(col, "value", col), dtype=np.float64), np.nan)
+    return np.asarray(values, dtype=np.float64)
+
+
+def plot_population(table: Any, out_dir: str | os.PathLike[str]) -> list[Path]:
+    """Write the survey's population figures.
+
+    Three figures: the (Δν, ΔΠ1) diagram coloured by state with the
+    evolutionary regions; numax against Δν with the published power law
+    (Stello et al. 2009); and the scaling mass–radius diagram. Up to about
+    1500 stars per state are drawn as markers, larger samples as shaded 2-D
+    densities, so the figures stay readable for 10^5 stars.
+
+    Parameters
+    ----------
+    table : astropy.table.Table
+        A survey catalog with columns ``numax``, ``dnu``, ``dpi1``, ``mass``,
+        ``radius`` (μHz, μHz, s, M☉, R☉) and ``state``.
+    out_dir : str or path-like
+        Folder for ``population_dnu_dpi1.png``, ``population_numax_dnu.png`` and
+        ``population_mass_radius.png``.
+
+    Returns
+    -------
+    list of Path
+        The files written.
+    """
+    from matplotlib.patches import Rectangle
+
+    from .relations import STELLO_2009
+    from .state import STATE_REGIONS
+
+    plt = _pyplot()
+    out = Path(out_dir)
+    out.mkdir(parents=True, exist_ok=True)
+    states = np.asarray(table["state"]).astype(str) if "state" in table.colnames else \
+        np.full(len(table), "unknown")
+    numax, dnu, dpi1 = _column(table, "numax"), _column(table, "dnu"), _column(table, "dpi1")
+    mass, radius = _column(table, "mass"), _column(table, "radius")
+    colours = {**_STATE_COLOURS, "unknown": "#9ca3af"}
+    written = []
+
+    fig, ax = plt.subplots(figsize=(8, 6), constrained_layout=True)
+    for name, region in STATE_REGIONS.items():
+        (x0, x1), (y0, y1) = region.dnu, region.dpi1
+        ax.add_patch(Rectangle((x0, y0), x1 - x0, y1 - y0, fill=False, lw=1.2, ls="--",
+                               ec=_STATE_COLOURS[name]))
+        ax.text(x1, y1, f" {name} region", color=_STATE_COLOURS[name], fontsize=8, va="top",
+                ha="right")
+    for name, colour in colours.items():
+        sel = states == name
+        _density_or_points(ax, dnu[sel], dpi1[sel], colour, name, (2.0, 21.0, 0.0, 400.0))
+    ax.set_xlim(2.0, 21.0)
+    ax.set_ylim(0.0, 400.0)
+    ax.set_xlabel("Δν (μHz)")
+    ax.set_ylabel("ΔΠ1 (s)")
+    n_dpi1 = int(np.sum(np.isfinite(dpi1)))
+    ax.set_title(f"Seismic diagram: {n_dpi1:,} of {len(table):,} stars with ΔΠ1", fontsize=10)
+    ax.legend(loc="upper right", fontsize=8, frameon=False)
+    written.append(out / "population_dnu_dpi1.png")
+    fig.savefig(written[-1], dpi=110)
+    plt.close(fig)
+
+    fig, ax = plt.subplots(figsize=(8, 6), constrained_layout=True)
+    for name, colour in colours.items():
+        sel = states == name
+        _density_or_points(ax, numax[sel], dnu[sel], colour, name, (5.0, 300.0, 0.8, 25.0),
+                           log_x=True, log_y=True)
+    grid = np.geomspace(5.0, 300.0, 100)
+    alpha, beta = STELLO_2009
+    ax.plot(grid, alpha * grid**beta, color="#111827", lw=1.2,
+            label=f"Δν = {alpha} numax^{beta} (Stello et al. 2009)")
+    ax.set_xscale("log")
+    ax.set_yscale("log")
+    ax.set_xlim(5.0, 300.0)
+    ax.set_ylim(0.8, 25.0)
+    ax.set_xlabel("numax (μHz)")
+    ax.set_ylabel("Δν (μHz)")
+    ax.set_title("numax and Δν", fontsize=10)
+    ax.legend(loc="upper left", fontsize=8, frameon=False)
+    written.append(out / "population_numax_dnu.png")
+    fig.savefig(written[-1], dpi=110)
+    plt.close(fig)
+
+    fig, ax = plt.subplots(figsize=(8, 6), constrained_layout=True)
+    for name, colour in colours.items():
+        sel = states == name
+        _density_or_points(ax, mass[sel], radius[sel], colour, name, (0.3, 4.0, 2.0, 40.0),
+                           log_y=True)
+    ax.set_yscale("log")
+    ax.set_xlim(0.3, 4.0)
+    ax.set_ylim(2.0, 40.0)
+    ax.set_xlabel("Scaling mass (M☉; uncorrected scaling masses run high by ~10–15%)")
+    ax.set_ylabel("Scaling radius (R☉)")
+    ax.set_title(f"Mass and radius: {int(np.sum(np.isfinite(mass))):,} stars with Teff",
+                 fontsize=10)
+    ax.legend(loc="upper left", fontsize=8, frameon=False)
+    written.append(out / "population_mass_radius.png")
+    fig.savefig(written[-1], dpi=110)
+    plt.close(fig)
+    return written

@@ -30,3 +30,20 @@ def test_log_binned_keeps_the_mean_of_a_flat_spectrum():
     centres, mean = log_binned(freq, np.full(freq.size, 3.0), n_bins=50)
     assert np.allclose(mean, 3.0)
     assert np.all(np.diff(centres) > 0)
+
+
+def test_population_figures_for_small_and_large_catalogs(tmp_path):
+    # Markers for small samples, shaded densities for large ones (must not fail at 10^5).
+    import numpy as np
+    from astropy.table import Table
+
+    from seismo.plots import plot_population
+
+    rng = np.random.default_rng(0)
+    for n in (50, 100_000):
+        state = rng.choice(["RGB", "RC", "2CL", "unknown"], n)
+        table = Table({"state": state, "dnu": rng.uniform(3, 15, n),
+                       "dpi1": rng.uniform(60, 320, n), "numax": rng.uniform(20, 200, n),
+                       "mass": rng.uniform(0.8, 2.5, n), "radius": rng.uniform(4, 15, n)})
+        files = plot_population(table, tmp_path / str(n))
+        assert len(files) == 3 and all(f.stat().st_size > 10_000 for f in files)
