@@ -148,7 +148,56 @@ def build_parser() -> argparse.ArgumentParser:
     simulate.add_argument("--duration", type=float, help="observing span, days")
     simulate.add_argument("--no-oscillations", action="store_true",
                           help="granulation and noise only")
+    _add_survey_parsers(sub)
     return parser
+
+
+def _add_survey_parsers(sub: Any) -> None:
+    survey = sub.add_parser(
+        "survey", help="analyse many light curves into a resumable ledger and a catalog",
+        description="Analyse every star of INPUTS with one configuration. Each star is "
+                    "recorded in DIR/ledger.sqlite as it finishes; running the same command "
+                    "again resumes where it stopped.",
+    )
+    survey.add_argument("inputs", metavar="INPUTS",
+                        help="a folder (searched recursively), a text file listing one path "
+                             "per line, or a table (.csv, .ecsv, .fits) with a 'path' column "
+                             "and optional id, teff, teff_err, feh columns")
+    survey.add_argument("--out", required=True, metavar="DIR",
+                        help="survey folder for the ledger and the catalog")
+    survey.add_argument("--config", metavar="FILE.toml",
+                        help="analysis settings: sections [read], [condition], [spectrum], "
+                             "[detection], [scaling] (default settings otherwise)")
+    survey.add_argument("--workers", type=int, default=None, metavar="N",
+                        help="worker processes (default: number of cores)")
+    survey.add_argument("--timeout-per-star", type=float, default=None, metavar="S",
+                        help="give up on a star after S seconds (recorded as failed)")
+    survey.add_argument("--retry-failed", action="store_true",
+                        help="analyse stars recorded as failed again")
+    survey.add_argument("--dask", metavar="ADDRESS",
+                        help="run on a Dask cluster: a scheduler address, or 'local' for a "
+                             "local cluster (needs seismo[dask])")
+    survey.add_argument("--catalog", metavar="FILE",
+                        help="catalog to write at the end: .ecsv, .fits, .csv or .parquet "
+                             "(default DIR/catalog.ecsv); failures go to FILE.failed.*")
+    survey.add_argument("--pattern", metavar="GLOB",
+                        help="file names to take from a folder (default: every light-curve "
+                             "suffix)")
+    survey.add_argument("--seed", type=int, default=0,
+                        help="run seed; each star's seed derives from it and the file's "
+                             "checksum (default 0)")
+    survey.add_argument("--quiet", action="store_true",
+                        help="no progress and no summary")
+
+    catalog = sub.add_parser(
+        "catalog", help="export the catalog of a survey folder",
+        description="Write one row per analysed star of DIR's ledger, and the failed stars "
+                    "with their reasons beside it.",
+    )
+    catalog.add_argument("directory", metavar="DIR", help="survey folder (holds ledger.sqlite)")
+    catalog.add_argument("--out", metavar="FILE",
+                         help="catalog file: .ecsv, .fits, .csv or .parquet "
+                              "(default DIR/catalog.ecsv)")
 
 
 class _UsageError(Exception):
@@ -333,6 +382,53 @@ def _run_simulate(args: argparse.Namespace) -> int:
     return EXIT_OK
 
 
+def _run_survey(args: argparse.Namespace) -> int:
+    from .survey import load_config, run_survey
+
+    config = load_config(args.config) if args.config else None
+    if args.workers is not None and args.workers < 1:
+        raise OptionError(f"--workers must be at least 1; got {args.workers}")
+    if args.timeout_per_star is not None and not args.timeout_per_star > 0:
+        raise OptionError(f"--timeout-per-star must be positive; got {args.timeout_per_star}")
+    executor = "local" if args.dask is None else f"dask:{args.dask}"
+    catalog = Path(args.catalog) if args.catalog else Path(args.out) / "catalog.ecsv"
+    summary = run_survey(
+        args.inputs, args.out, config, workers=args.workers, executor=executor,
+        timeout=args.timeout_per_star, retry_failed=args.retry_failed,
+        progress="quiet" if args.quiet else "auto", seed=args.seed, pattern=args.pattern,
+        catalog=catalog,
+    )
+    figures = _population_figures(catalog, Path(args.out) / "figures")
+    if not args.quiet:
+        print(summary.to_text())
+        print(f"  catalog  {catalog}")
+        for path in figures:
+            print(f"  figure   {path}")
+    return EXIT_INPUT if summary.by_status.get("failed") else EXIT_OK
+
+
+def _population_figures(catalog: Path, out_dir: Path) -> list[Path]:
+    """Population figures from a written catalog (none when it holds no star)."""
+    from astropy.table import Table
+
+    from .plots import plot_population
+
+    if not catalog.exists():
+        return []
+    table = Table.read(catalog)
+    return plot_population(table, out_dir) if len(table) else []
+
+
+def _run_catalog(args: argparse.Namespace) -> int:
+    from .survey import open_ledger, write_catalog
+
+    out = Path(args.out) if args.out else Path(args.directory) / "catalog.ecsv"
+    with open_ledger(args.directory, readonly=True) as ledger:
+        path, failed, n_stars, n_failed = write_catalog(ledger, out)
+    print(f"wrote {path} ({n_stars} stars) and {failed} ({n_failed} failed)")
+    return EXIT_OK
+
+
 def main(argv: Sequence[str] | None = None) -> int:
     """Run the command line.
 
@@ -354,6 +450,10 @@ def main(argv: Sequence[str] | None = None) -> int:
     try:
         if args.command == "analyze":
             return _run_analyze(args)
+        if args.command == "survey":
+            return _run_survey(args)
+        if args.command == "catalog":
+            return _run_catalog(args)
         return _run_simulate(args)
     except _UsageError as err:
         print(f"seismo: error: {err}", file=sys.stderr)
@@ -364,3 +464,9 @@ def main(argv: Sequence[str] | None = None) -> int:
     except KeyboardInterrupt:
         print("seismo: interrupted", file=sys.stderr)
         return 130
+    except Exception as exc:
+        if args.command not in ("survey", "catalog"):
+            raise
+        print(f"seismo: internal error: {type(exc).__name__}: {exc} (please report it)",
+              file=sys.stderr)
+        return EXIT_INTERNAL

@@ -473,7 +473,8 @@ def plot_population(table: Any, out_dir: str | os.PathLike[str]) -> list[Path]:
     ax.set_ylabel("ΔΠ1 (s)")
     n_dpi1 = int(np.sum(np.isfinite(dpi1)))
     ax.set_title(f"Seismic diagram: {n_dpi1:,} of {len(table):,} stars with ΔΠ1", fontsize=10)
-    ax.legend(loc="upper right", fontsize=8, frameon=False)
+    if ax.get_legend_handles_labels()[0]:
+        ax.legend(loc="upper right", fontsize=8, frameon=False)
     written.append(out / "population_dnu_dpi1.png")
     fig.savefig(written[-1], dpi=110)
     plt.close(fig)
@@ -509,9 +510,12 @@ def plot_population(table: Any, out_dir: str | os.PathLike[str]) -> list[Path]:
     ax.set_ylim(2.0, 40.0)
     ax.set_xlabel("Scaling mass (M☉; uncorrected scaling masses run high by ~10–15%)")
     ax.set_ylabel("Scaling radius (R☉)")
-    ax.set_title(f"Mass and radius: {int(np.sum(np.isfinite(mass))):,} stars with Teff",
-                 fontsize=10)
-    ax.legend(loc="upper left", fontsize=8, frameon=False)
+    n_mass = int(np.sum(np.isfinite(mass)))
+    ax.set_title(f"Mass and radius: {n_mass:,} stars with Teff", fontsize=10)
+    if n_mass:
+        ax.legend(loc="upper left", fontsize=8, frameon=False)
+    else:
+        _placeholder(ax, "No star has a mass: give Teff (a teff column in the input table)")
     written.append(out / "population_mass_radius.png")
     fig.savefig(written[-1], dpi=110)
     plt.close(fig)

@@ -1,0 +1,169 @@
+"""Catalogs from a survey ledger: one row per star, units on every column.
+
+The star table has one row per done star: ``id``, ``path``, ``detected``,
+each measurement of `seismo.results.MEASUREMENT_FIELDS` as a column with its
+astropy unit and its error as ``<name>_err``, ``state``,
+``state_probability``, ``flags`` (joined with ``";"``) and the provenance
+(``config_hash``, ``input_checksum``, ``seed``, ``version``). Quantities not
+measured are NaN. Failed stars go to a second table (``path``, ``error_class``,
+``error_message``, ``checksum``, ``seconds``, ``worker``) written beside the
+first as ``<stem>.failed<suffix>``.
+
+Formats follow the suffix: ``.ecsv`` (units kept), ``.fits`` (units kept
+except the function unit of ``logg``, written as plain ``dex`` in the column
+description), ``.csv`` (no units), ``.parquet`` (needs pyarrow).
+"""
+
+from __future__ import annotations
+
+from collections.abc import Iterable
+from pathlib import Path
+from typing import Any
+
+import numpy as np
+
+from ..errors import OptionError
+from ..results import MEASUREMENT_FIELDS
+from .ledger import Ledger, StarRecord
+
+__all__ = ["CATALOG_FORMATS", "catalog_tables", "write_catalog", "failed_path", "column_unit"]
+
+#: Catalog suffix -> astropy format name.
+CATALOG_FORMATS: dict[str, str] = {".ecsv": "ascii.ecsv", ".fits": "fits", ".csv": "ascii.csv",
+                                   ".parquet": "parquet"}
+
+
+def column_unit(name: str) -> Any:
+    """The astropy unit of a measurement column (see `MEASUREMENT_FIELDS`).
+
+    Parameters
+    ----------
+    name : str
+        A key of `MEASUREMENT_FIELDS`.
+
+    Returns
+    -------
+    astropy.units.UnitBase
+    """
+    import astropy.units as u
+
+    text = MEASUREMENT_FIELDS[name]
+    return {
+        "μHz": u.uHz, "s": u.s, "M☉": u.Msun, "R☉": u.Rsun,
+        "dex (cgs)": u.dex(u.cm / u.s**2), "dimensionless": u.dimensionless_unscaled,
+    }[text]
+
+
+def failed_path(path: str | Path) -> Path:
+    """Where the table of failed stars goes: ``catalog.ecsv`` → ``catalog.failed.ecsv``."""
+    path = Path(path)
+    return path.with_name(f"{path.stem}.failed{path.suffix}")
+
+
+def catalog_tables(records: Iterable[StarRecord]) -> tuple[Any, Any]:
+    """Build the star table and the failed-star table from ledger records.
+
+    Parameters
+    ----------
+    records : iterable of StarRecord
+        Typically ``ledger.records()``; skipped stars are left out.
+
+    Returns
+    -------
+    (astropy.table.QTable, astropy.table.Table)
+        Stars (one row per done star, in path order) and failures.
+    """
+    from astropy.table import QTable, Table
+
+    done: list[tuple[StarRecord, dict[str, Any]]] = []
+    failed: list[StarRecord] = []
+    for rec in sorted(records, key=lambda r: r.path):
+        if rec.status == "done":
+            done.append((rec, rec.result() or {}))
+        elif rec.status == "failed":
+            failed.append(rec)
+
+    stars = QTable()
+    stars["id"] = np.array([str(r.get("id") or "") for _, r in done], dtype=str)
+    stars["path"] = np.array([rec.path for rec, _ in done], dtype=str)
+    stars["detected"] = np.array([bool(r.get("detected")) for _, r in done], dtype=bool)
+    for name in MEASUREMENT_FIELDS:
+        values = np.full(len(done), np.nan)
+        errors = np.full(len(done), np.nan)
+        for i, (_, r) in enumerate(done):
+            m = r.get(name)
+            if m:
+                values[i] = m["value"]
+                errors[i] = np.nan if m.get("error") is None else m["error"]
+        unit = column_unit(name)
+        stars[name] = values * unit
+        stars[f"{name}_err"] = errors * unit
+        stars[name].info.description = f"{name} ({MEASUREMENT_FIELDS[name]})"
+    stars["state"] = np.array([r.get("state") or "unknown" for _, r in done], dtype=str)
+    stars["state_probability"] = np.array(
+        [np.nan if r.get("state_probability") is None else r["state_probability"]
+         for _, r in done], dtype=float)
+    stars["flags"] = np.array([";".join(r.get("flags") or []) for _, r in done], dtype=str)
+    for key in ("config_hash", "input_checksum", "seed", "run_seed", "version"):
+        stars[key] = np.array([str((r.get("provenance") or {}).get(key) or "")
+                               for _, r in done], dtype=str)
+    stars["seconds"] = np.array([rec.seconds for rec, _ in done], dtype=float)
+
+    failures = Table()
+    failures["path"] = np.array([rec.path for rec in failed], dtype=str)
+    failures["error_class"] = np.array([rec.error_class or "" for rec in failed], dtype=str)
+    failures["error_message"] = np.array([rec.error_message or "" for rec in failed], dtype=str)
+    failures["checksum"] = np.array([rec.checksum or "" for rec in failed], dtype=str)
+    failures["seconds"] = np.array([rec.seconds for rec in failed], dtype=float)
+    failures["worker"] = np.array([rec.worker for rec in failed], dtype=str)
+    return stars, failures
+
+
+def _write(table: Any, path: Path) -> None:
+    fmt = CATALOG_FORMATS[path.suffix.lower()]
+    if fmt == "parquet":
+        try:
+            import pyarrow  # noqa: F401
+        except ImportError:
+            raise OptionError("writing a .parquet catalog needs pyarrow (pip install "
+                              "pyarrow); .ecsv, .fits and .csv need nothing else") from None
+    if fmt == "fits" and "logg" in table.colnames:
+        # FITS cannot hold the function unit dex(cm/s2): write plain numbers, say so.
+        table = table.copy()
+        for col in ("logg", "logg_err"):
+            values = table[col].value if hasattr(table[col], "value") else table[col]
+            table[col] = np.asarray(values, dtype=float)
+            table[col].info.description = "log10 of surface gravity in cm s-2 (dex)"
+    table.write(path, format=fmt, overwrite=True)
+
+
+def write_catalog(ledger: Ledger, path: str | Path) -> tuple[Path, Path, int, int]:
+    """Export a ledger as a catalog of done stars plus a table of failures.
+
+    Parameters
+    ----------
+    ledger : Ledger
+        The survey's ledger.
+    path : str or Path
+        Catalog file; its suffix picks the format (`CATALOG_FORMATS`).
+
+    Returns
+    -------
+    (Path, Path, int, int)
+        Catalog path, failed-table path, number of stars, number of failures.
+
+    Raises
+    ------
+    OptionError
+        For an unknown suffix, or ``.parquet`` without pyarrow.
+    """
+    path = Path(path)
+    if path.suffix.lower() not in CATALOG_FORMATS:
+        raise OptionError(f"unknown catalog format {path.suffix!r} of {path}; allowed "
+                          f"suffixes are {list(CATALOG_FORMATS)}")
+    stars, failures = catalog_tables(ledger.records())
+    path.parent.mkdir(parents=True, exist_ok=True)
+    _write(stars, path)
+    other = failed_path(path)
+    _write(failures, other)
+    return path, other, len(stars), len(failures)
