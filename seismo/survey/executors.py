@@ -390,8 +390,21 @@ class DaskExecutor:
             raise OptionError("the Dask executor needs dask.distributed; install seismo[dask] "
                               "(pip install 'seismo[dask]')") from None
         if self.address == "local":
-            cluster = LocalCluster(n_workers=self.workers, threads_per_worker=1,
-                                   processes=True, host="127.0.0.1", dashboard_address=None)
+            # As for the local executor: single-threaded numerical libraries in each
+            # worker process, or two workers oversubscribe two cores.
+            saved = {name: os.environ.get(name) for name in _THREAD_VARIABLES}
+            for name in _THREAD_VARIABLES:
+                os.environ.setdefault(name, "1")
+            try:
+                cluster = LocalCluster(n_workers=self.workers, threads_per_worker=1,
+                                       processes=True, host="127.0.0.1",
+                                       dashboard_address=None)
+            finally:
+                for name, value in saved.items():
+                    if value is None:
+                        os.environ.pop(name, None)
+                    else:
+                        os.environ[name] = value
             return cluster, Client(cluster)
         return None, Client(self.address)
 
