@@ -396,9 +396,17 @@ class DaskExecutor:
             for name in _THREAD_VARIABLES:
                 os.environ.setdefault(name, "1")
             try:
-                cluster = LocalCluster(n_workers=self.workers, threads_per_worker=1,
-                                       processes=True, host="127.0.0.1",
-                                       dashboard_address=None)
+                import dask
+
+                # Dask asks glibc to return freed memory eagerly (a 64 kB trim
+                # threshold); each star allocates and frees many large arrays, so that
+                # costs page faults on every stage. Use glibc's default instead.
+                environ = dict(dask.config.get("distributed.nanny.pre-spawn-environ", {}))
+                environ.pop("MALLOC_TRIM_THRESHOLD_", None)
+                with dask.config.set({"distributed.nanny.pre-spawn-environ": environ}):
+                    cluster = LocalCluster(n_workers=self.workers, threads_per_worker=1,
+                                           processes=True, host="127.0.0.1",
+                                           dashboard_address=None)
             finally:
                 for name, value in saved.items():
                     if value is None:
