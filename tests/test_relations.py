@@ -159,14 +159,25 @@ def test_period_spacing_equals_zeta_dpi1(pattern):
 
 
 def test_minimum_period_spacing(pattern):
-    # REFERENCES §5b, CALC: minimum ΔP/ΔΠ1 = 0.865. The window is not stated
-    # there; [22, 35] μHz (two orders below ν_max, one above) reproduces it,
-    # the p mode at 34.08 μHz giving ζ_min = 0.8659 and the spacing 0.868.
+    # REFERENCES §5b, CALC: the smallest ΔP/ΔΠ1 of an order sits at its p-dominated mode and
+    # approaches ζ_min = [1 + 1/(q𝒩)]⁻¹ there, with 𝒩 = Δν/(ν²ΔΠ1). Within 1 %: a spacing
+    # between two modes cannot sample θp = 0 exactly, and with the pattern's curvature the
+    # local spacing of p modes differs slightly from Δν. Checked order by order, so no
+    # frequency window has to be chosen. REFERENCES quotes 0.865 as "the minimum";
+    # that is the value of ζ_min at the p mode near 34 μHz, checked as well.
     nu_p, freq = pattern
     spacing = -np.diff(1e6 / freq) / DPI1
     mid = 0.5 * (freq[1:] + freq[:-1])
-    window = (mid > 22.0) & (mid < 35.0)
-    assert spacing[window].min() == pytest.approx(0.865, rel=5e-3)
+    checked = 0
+    for centre in nu_p[(nu_p > 18.0) & (nu_p < 42.0)]:  # a loop over a few radial orders
+        near = np.abs(mid - centre) < 0.3 * DNU
+        n_g = DNU / (centre**2 * DPI1) * 1e6
+        zeta_min = 1.0 / (1.0 + 1.0 / (Q * n_g))
+        assert spacing[near].min() == pytest.approx(zeta_min, rel=0.01)
+        checked += 1
+        if abs(centre - 34.0) < 0.5:
+            assert spacing[near].min() == pytest.approx(0.865, rel=5e-3)
+    assert checked >= 5
 
 
 def test_zeta_extremes(pattern):
