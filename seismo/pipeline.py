@@ -24,11 +24,7 @@ from .lightcurve import LightCurve, condition, read_lightcurve
 from .results import Measurement, StarResult
 from .spectrum import PowerSpectrum, power_spectrum
 
-__all__ = ["Prepared", "prepare", "summarize", "file_checksum", "Analysis", "analyze",
-           "NOT_YET_MEASURED"]
-
-#: Flags for schema fields that later stages of the project will fill (none left).
-NOT_YET_MEASURED: tuple[str, ...] = ()
+__all__ = ["Prepared", "prepare", "summarize", "file_checksum", "Analysis", "analyze"]
 
 
 @dataclass(frozen=True, eq=False)
@@ -257,7 +253,8 @@ def analyze(
     flags: list[str] = list(detection.flags)
     details: dict[str, Any] = {
         "detection": {"false_alarm": detection.false_alarm, "statistic": detection.statistic},
-        "lightcurve": summarize(prepared),
+        # The provenance is a top-level field of the result; not repeated here.
+        "lightcurve": {k: v for k, v in summarize(prepared).items() if k != "provenance"},
         "inputs": inputs.to_dict(),
     }
     star_id = str(prepared.lightcurve.id or "unknown")

@@ -320,6 +320,25 @@ def _draw_echelle(ax: Any, ps: PowerSpectrum, fit: Any, pattern: Any, result: An
 _STATE_COLOURS = {"RGB": "#64748b", "RC": "#d97706", "2CL": "#0f766e"}
 
 
+def _draw_regions(ax: Any, filled: bool) -> None:
+    """The evolutionary regions of `seismo.state.STATE_REGIONS` in the (Δν, ΔΠ1) plane."""
+    from matplotlib.patches import Rectangle
+
+    from .state import STATE_REGIONS
+
+    for name, region in STATE_REGIONS.items():
+        (x0, x1), (y0, y1) = region.dnu, region.dpi1
+        colour = _STATE_COLOURS[name]
+        if filled:
+            patch = Rectangle((x0, y0), x1 - x0, y1 - y0, color=colour, alpha=0.18, lw=0,
+                              label=f"{name} region")
+        else:
+            patch = Rectangle((x0, y0), x1 - x0, y1 - y0, fill=False, lw=1.2, ls="--", ec=colour)
+        ax.add_patch(patch)
+        ax.text(x1, y1, f" {name}" if filled else f" {name} region", color=colour,
+                fontsize=9 if filled else 8, va="top", ha="right")
+
+
 def draw_state_diagram(ax: Any, dnu: Any, dpi1: Any, state: str | None = None) -> None:
     """Draw the (Δν, ΔΠ1) diagram with the evolutionary regions and one star.
 
@@ -333,16 +352,7 @@ def draw_state_diagram(ax: Any, dnu: Any, dpi1: Any, state: str | None = None) -
     state : str, optional
         The star's classified state, for the legend.
     """
-    from matplotlib.patches import Rectangle
-
-    from .state import STATE_REGIONS
-
-    for name, region in STATE_REGIONS.items():
-        (x0, x1), (y0, y1) = region.dnu, region.dpi1
-        ax.add_patch(Rectangle((x0, y0), x1 - x0, y1 - y0, color=_STATE_COLOURS[name],
-                               alpha=0.18, lw=0, label=f"{name} region"))
-        ax.text(x1, y1, f" {name}", color=_STATE_COLOURS[name], fontsize=9, va="top",
-                ha="right")
+    _draw_regions(ax, filled=True)
     label = "this star" + (f" ({state})" if state else "")
     if dnu is not None and dpi1 is not None:
         ax.errorbar([dnu.value], [dpi1.value], xerr=[dnu.error or 0], yerr=[dpi1.error or 0],
@@ -411,6 +421,20 @@ def _density_or_points(ax: Any, x: np.ndarray, y: np.ndarray, colour: str, label
     ax.plot([], [], "s", color=colour, label=f"{label} ({x.size:,}, log density)")
 
 
+def _by_state(ax: Any, states: np.ndarray, x: np.ndarray, y: np.ndarray,
+              extent: tuple[float, float, float, float], **scales: bool) -> None:
+    """One layer of markers or density per evolutionary state (unknown in grey)."""
+    for name, colour in {**_STATE_COLOURS, "unknown": "#9ca3af"}.items():
+        sel = states == name
+        _density_or_points(ax, x[sel], y[sel], colour, name, extent, **scales)
+
+
+def _save(plt: Any, fig: Any, path: Path) -> Path:
+    fig.savefig(path, dpi=110)
+    plt.close(fig)
+    return path
+
+
 def _column(table: Any, name: str) -> np.ndarray:
     if name not in table.colnames:
         return np.full(len(table), np.nan)
@@ -442,10 +466,7 @@ def plot_population(table: Any, out_dir: str | os.PathLike[str]) -> list[Path]:
     list of Path
         The files written.
     """
-    from matplotlib.patches import Rectangle
-
     from .relations import STELLO_2009
-    from .state import STATE_REGIONS
 
     plt = _pyplot()
     out = Path(out_dir)
@@ -454,19 +475,11 @@ def plot_population(table: Any, out_dir: str | os.PathLike[str]) -> list[Path]:
         np.full(len(table), "unknown")
     numax, dnu, dpi1 = _column(table, "numax"), _column(table, "dnu"), _column(table, "dpi1")
     mass, radius = _column(table, "mass"), _column(table, "radius")
-    colours = {**_STATE_COLOURS, "unknown": "#9ca3af"}
     written = []
 
     fig, ax = plt.subplots(figsize=(8, 6), constrained_layout=True)
-    for name, region in STATE_REGIONS.items():
-        (x0, x1), (y0, y1) = region.dnu, region.dpi1
-        ax.add_patch(Rectangle((x0, y0), x1 - x0, y1 - y0, fill=False, lw=1.2, ls="--",
-                               ec=_STATE_COLOURS[name]))
-        ax.text(x1, y1, f" {name} region", color=_STATE_COLOURS[name], fontsize=8, va="top",
-                ha="right")
-    for name, colour in colours.items():
-        sel = states == name
-        _density_or_points(ax, dnu[sel], dpi1[sel], colour, name, (2.0, 21.0, 0.0, 400.0))
+    _draw_regions(ax, filled=False)
+    _by_state(ax, states, dnu, dpi1, (2.0, 21.0, 0.0, 400.0))
     ax.set_xlim(2.0, 21.0)
     ax.set_ylim(0.0, 400.0)
     ax.set_xlabel("Δν (μHz)")
@@ -475,15 +488,11 @@ def plot_population(table: Any, out_dir: str | os.PathLike[str]) -> list[Path]:
     ax.set_title(f"Seismic diagram: {n_dpi1:,} of {len(table):,} stars with ΔΠ1", fontsize=10)
     if ax.get_legend_handles_labels()[0]:
         ax.legend(loc="upper right", fontsize=8, frameon=False)
-    written.append(out / "population_dnu_dpi1.png")
-    fig.savefig(written[-1], dpi=110)
-    plt.close(fig)
+    written.append(_save(plt, fig, out / "population_dnu_dpi1.png"))
 
     fig, ax = plt.subplots(figsize=(8, 6), constrained_layout=True)
-    for name, colour in colours.items():
-        sel = states == name
-        _density_or_points(ax, numax[sel], dnu[sel], colour, name, (5.0, 300.0, 0.8, 25.0),
-                           log_x=True, log_y=True)
+    _by_state(ax, states, numax, dnu, (5.0, 300.0, 0.8, 25.0), log_x=True,
+              log_y=True)
     grid = np.geomspace(5.0, 300.0, 100)
     alpha, beta = STELLO_2009
     ax.plot(grid, alpha * grid**beta, color="#111827", lw=1.2,
@@ -496,15 +505,10 @@ def plot_population(table: Any, out_dir: str | os.PathLike[str]) -> list[Path]:
     ax.set_ylabel("Δν (μHz)")
     ax.set_title("numax and Δν", fontsize=10)
     ax.legend(loc="upper left", fontsize=8, frameon=False)
-    written.append(out / "population_numax_dnu.png")
-    fig.savefig(written[-1], dpi=110)
-    plt.close(fig)
+    written.append(_save(plt, fig, out / "population_numax_dnu.png"))
 
     fig, ax = plt.subplots(figsize=(8, 6), constrained_layout=True)
-    for name, colour in colours.items():
-        sel = states == name
-        _density_or_points(ax, mass[sel], radius[sel], colour, name, (0.3, 4.0, 2.0, 40.0),
-                           log_y=True)
+    _by_state(ax, states, mass, radius, (0.3, 4.0, 2.0, 40.0), log_y=True)
     ax.set_yscale("log")
     ax.set_xlim(0.3, 4.0)
     ax.set_ylim(2.0, 40.0)
@@ -516,7 +520,5 @@ def plot_population(table: Any, out_dir: str | os.PathLike[str]) -> list[Path]:
         ax.legend(loc="upper left", fontsize=8, frameon=False)
     else:
         _placeholder(ax, "No star has a mass: give Teff (a teff column in the input table)")
-    written.append(out / "population_mass_radius.png")
-    fig.savefig(written[-1], dpi=110)
-    plt.close(fig)
+    written.append(_save(plt, fig, out / "population_mass_radius.png"))
     return written
