@@ -11,9 +11,11 @@ import dataclasses
 import json
 import os
 import signal
+import socket
 import sqlite3
 import subprocess
 import sys
+import threading
 import time
 from pathlib import Path
 
@@ -198,6 +200,80 @@ def test_timeout_becomes_failed_record(star_dir: Path) -> None:
     (outcome,) = list(LocalExecutor(1).results([job]))
     assert outcome["status"] == "failed" and outcome["error_class"] == "StarTimeoutError"
     assert "time limit of 0.01 s" in outcome["error_message"]
+
+
+def _pool_processes(executor: LocalExecutor) -> list:
+    pool = executor._pool
+    return list(getattr(pool, "_processes", {}).values()) if pool is not None else []
+
+
+def _signal_workers(executor: LocalExecutor, sig: int, times: int, stop: threading.Event,
+                    delay: float = 0.3) -> list[int]:
+    """Send ``sig`` to the first ``times`` worker processes that appear (a killed node)."""
+    hit: list[int] = []
+    while not stop.is_set() and len(hit) < times:
+        for process in _pool_processes(executor):
+            if process.pid and process.pid not in hit and process.is_alive():
+                time.sleep(delay)  # let it pick up the job
+                try:
+                    os.kill(process.pid, sig)
+                except ProcessLookupError:
+                    continue
+                hit.append(process.pid)
+        time.sleep(0.02)
+    return hit
+
+
+def _run_with_signals(executor: LocalExecutor, jobs: list[Job], sig: int, times: int,
+                      delay: float = 0.3) -> tuple[list[dict], list[int]]:
+    stop = threading.Event()
+    hit: list[int] = []
+    thread = threading.Thread(
+        target=lambda: hit.extend(_signal_workers(executor, sig, times, stop, delay)), daemon=True)
+    thread.start()
+    try:
+        outcomes = list(executor.results(jobs))
+    finally:
+        stop.set()
+        thread.join(timeout=10)
+    return outcomes, hit
+
+
+def test_lost_worker_job_is_run_again(reference, star_dir: Path) -> None:
+    # common practice: a worker killed mid-task (kill -9, OOM killer) must not lose the star
+    path = str(star_dir / "star00.fits")
+    job = Job(path, AnalysisConfig(), StarInputs(), 0)
+    (outcome,), hit = _run_with_signals(LocalExecutor(1, max_attempts=2), [job],
+                                        signal.SIGKILL, 1)
+    assert len(hit) == 1
+    assert outcome["status"] == "done"
+    assert outcome["worker"] != f"{socket.gethostname()}:{hit[0]}"
+    assert json.loads(outcome["result_json"]) == reference[path].result()
+
+
+def test_worker_dying_on_every_attempt_becomes_failed_record(star_dir: Path) -> None:
+    job = Job(str(star_dir / "star00.fits"), AnalysisConfig(), StarInputs(), 0)
+    (outcome,), hit = _run_with_signals(LocalExecutor(1, max_attempts=2), [job],
+                                        signal.SIGKILL, 2)
+    assert len(hit) == 2
+    assert outcome["status"] == "failed" and outcome["error_class"] == "WorkerLostError"
+    assert "2 attempts" in outcome["error_message"]
+
+
+def test_stuck_worker_is_killed_and_the_run_goes_on(reference, star_dir: Path) -> None:
+    # A stopped process never runs its timer handler: the stand-in for a star stuck in
+    # compiled code. The executor must kill it after timeout + grace and carry on.
+    jobs = [Job(str(star_dir / f"star0{i}.fits"), AnalysisConfig(), StarInputs(), 0,
+                timeout=30.0 if i else 1.0) for i in range(2)]
+    executor = LocalExecutor(1, grace=0.5)
+    outcomes, hit = _run_with_signals(executor, jobs, signal.SIGSTOP, 1, delay=0.0)
+    assert len(hit) == 1
+    by_path = {o["path"]: o for o in outcomes}
+    stuck, good = by_path[jobs[0].path], by_path[jobs[1].path]
+    assert stuck["status"] == "failed" and stuck["error_class"] == "StarTimeoutError"
+    assert "worker killed" in stuck["error_message"]
+    assert good["status"] == "done"
+    assert json.loads(good["result_json"]) == reference[jobs[1].path].result()
 
 
 # --- inputs and configuration --------------------------------------------------------------
