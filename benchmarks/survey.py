@@ -53,14 +53,23 @@ def ledger_overhead(folder: Path, n: int) -> float:
 def main() -> None:
     parser = argparse.ArgumentParser(description=__doc__.split("\n")[0])
     parser.add_argument("--stars", type=int, default=200)
+    parser.add_argument("--data", type=Path, default=None,
+                        help="keep the simulated light curves in this folder and reuse them on "
+                             "the next run (simulating 200 stars takes a few minutes)")
     args = parser.parse_args()
     rng = np.random.default_rng(5)
     with tempfile.TemporaryDirectory() as tmp:
-        data = Path(tmp) / "lightcurves"
-        data.mkdir()
-        t0 = time.perf_counter()
-        make_stars(args.stars, data, rng)
-        print(f"simulated {args.stars} stars in {time.perf_counter() - t0:.0f} s")
+        data = args.data or Path(tmp) / "lightcurves"
+        data.mkdir(parents=True, exist_ok=True)
+        if sorted(data.glob("THR-*.fits")) != [data / f"THR-{i:04d}.fits"
+                                               for i in range(args.stars)]:
+            for old in data.glob("THR-*.fits"):
+                old.unlink()
+            t0 = time.perf_counter()
+            make_stars(args.stars, data, rng)
+            print(f"simulated {args.stars} stars in {time.perf_counter() - t0:.0f} s")
+        else:
+            print(f"reusing the {args.stars} simulated stars in {data}")
         rates = {}
         for label, executor, workers in (("local, 1 worker", "local", 1),
                                          ("local, 2 workers", "local", 2),
