@@ -5,14 +5,34 @@ package reads model profiles (`StellarProfile`), builds analytic models
 (polytropes), and computes the seismic observables from them.
 """
 
-from .polytropes import LaneEmdenSolution, homogeneous_sphere, lane_emden, polytrope
-from .profiles import StellarProfile, buoyancy_from_structure
+from .composite import composite_polytrope
+from .polytropes import (
+    LaneEmdenSolution,
+    emden_solution,
+    homogeneous_sphere,
+    lane_emden,
+    polytrope,
+)
+from .profiles import (
+    ProfileCheck,
+    ProfileWarning,
+    StellarProfile,
+    buoyancy_from_structure,
+    check_profile,
+)
+from .reading import read_profile
 
 __all__ = [
     "StellarProfile",
     "buoyancy_from_structure",
+    "read_profile",
+    "check_profile",
+    "ProfileCheck",
+    "ProfileWarning",
     "LaneEmdenSolution",
     "lane_emden",
     "polytrope",
     "homogeneous_sphere",
+    "emden_solution",
+    "composite_polytrope",
 ]

@@ -13,15 +13,23 @@ checks and the demo models.
 from __future__ import annotations
 
 from dataclasses import dataclass
+from typing import Any
 
 import numpy as np
+from numpy.typing import ArrayLike
 from scipy.integrate import solve_ivp
 
 from ..errors import OptionError
 from .constants import G_CGS, M_SUN_G, R_SUN_CM
 from .profiles import StellarProfile
 
-__all__ = ["LaneEmdenSolution", "lane_emden", "polytrope", "homogeneous_sphere"]
+__all__ = [
+    "LaneEmdenSolution",
+    "lane_emden",
+    "emden_solution",
+    "polytrope",
+    "homogeneous_sphere",
+]
 
 #: Start of the numerical integration; the series below is exact to O(ξ⁸) there.
 _XI_START = 1e-3
@@ -70,13 +78,131 @@ def _series(n: float, xi: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     return theta, dtheta
 
 
+def _emden_rhs(n: float):
+    """Right-hand side of θ″ = −θⁿ − 2θ′/ξ as a first-order system."""
+
+    def rhs(xi: float, y: np.ndarray) -> list[float]:
+        theta, dtheta = y
+        # |θ|ⁿ sign(θ) keeps non-integer n defined for the step that overshoots the zero.
+        return [dtheta, -np.abs(theta) ** n * np.sign(theta) - 2.0 * dtheta / xi]
+
+    return rhs
+
+
+def _integrate_emden(
+    n: float, xi0: float, theta0: float, dtheta0: float, xi_end: float, rtol: float
+) -> tuple[Any, float | None, float | None]:
+    """Integrate the Emden equation from (ξ₀, θ₀, θ′₀) towards ``xi_end``.
+
+    Returns the dense-output solver result and the first zero of θ with θ′
+    there (``None`` when θ stays positive up to ``xi_end``).
+    """
+
+    def surface(xi: float, y: np.ndarray) -> float:
+        return y[0]
+
+    surface.terminal = True
+    surface.direction = -1
+    sol = solve_ivp(
+        _emden_rhs(n), (xi0, xi_end), [theta0, dtheta0], method="DOP853",
+        rtol=rtol, atol=1e-300, events=surface, dense_output=True,
+    )
+    if sol.t_events[0].size == 0:
+        return sol, None, None
+    return sol, float(sol.t_events[0][0]), float(sol.y_events[0][0][1])
+
+
+def _check_index(n: float, upper: float = np.inf) -> float:
+    n = float(n)
+    if not (np.isfinite(n) and 0.0 <= n < upper):
+        bound = "n < 5" if upper == 5.0 else "n finite"
+        raise OptionError(
+            f"polytropic index must satisfy 0 <= n and {bound}, got {n}",
+            hint="n = 5 and above have no finite radius" if upper == 5.0 else None,
+        )
+    return n
+
+
+def emden_solution(
+    n: float,
+    xi: ArrayLike,
+    *,
+    start: tuple[float, float, float] | None = None,
+    rtol: float = 1e-13,
+) -> tuple[np.ndarray, np.ndarray]:
+    """θ and θ′ of the Lane–Emden equation of index ``n`` at chosen ξ.
+
+    Without ``start`` this is the centrally regular solution (θ(0) = 1,
+    θ′(0) = 0, the Lane–Emden function); with ``start = (ξ₀, θ₀, θ′₀)`` it is
+    the general (Emden) solution through that point, integrated outward, as
+    used for the envelope of `composite_polytrope`. Unlike `lane_emden`, any
+    n ≥ 0 is accepted, so n = 5 (no finite surface) can be sampled on a
+    finite range.
+
+    Parameters
+    ----------
+    n : float
+        Polytropic index, n ≥ 0, dimensionless.
+    xi : array_like, shape (n_xi,)
+        Dimensionless radii ξ, non-decreasing, ≥ 0 (≥ ξ₀ with ``start``).
+    start : tuple of float, optional
+        (ξ₀ > 0, θ₀ > 0, θ′₀) of a general solution.
+    rtol : float
+        Relative tolerance of the DOP853 integrator.
+
+    Returns
+    -------
+    theta, dtheta : numpy.ndarray, shape (n_xi,)
+        θ(ξ) and dθ/dξ, dimensionless.
+
+    Raises
+    ------
+    OptionError
+        If ``n`` < 0, ``xi`` is not non-decreasing from the start, or θ
+        reaches zero before the largest ξ requested.
+    """
+    n = _check_index(n)
+    xi = np.asarray(xi, dtype=float)
+    if xi.ndim != 1 or xi.size == 0 or np.any(np.diff(xi) < 0) or not np.all(np.isfinite(xi)):
+        raise OptionError("xi must be a non-empty, finite, non-decreasing 1-D array")
+    theta = np.empty_like(xi)
+    dtheta = np.empty_like(xi)
+    if start is None:
+        if xi[0] < 0:
+            raise OptionError(f"xi must be >= 0 for the central solution, got {xi[0]}")
+        inner = xi < _XI_START
+        theta[inner], dtheta[inner] = _series(n, xi[inner])
+        xi0 = _XI_START
+        y0 = [float(v) for v in _series(n, np.array(_XI_START))]
+    else:
+        xi0, theta0, dtheta0 = (float(v) for v in start)
+        if not (xi0 > 0 and theta0 > 0) or xi[0] < xi0:
+            raise OptionError(
+                f"start needs xi0 > 0, theta0 > 0 and xi >= xi0; got {start} and xi[0] = {xi[0]}"
+            )
+        inner = np.zeros(xi.shape, dtype=bool)
+        y0 = [theta0, dtheta0]
+    outer = ~inner
+    if np.any(outer):
+        sol, xi_zero, _ = _integrate_emden(n, xi0, y0[0], y0[1], max(xi[-1], xi0), rtol)
+        if xi_zero is not None and xi_zero < xi[-1]:
+            raise OptionError(
+                f"theta reaches zero at xi = {xi_zero:.6g}, before xi = {xi[-1]:.6g}",
+                hint="request xi only up to the surface (see lane_emden for xi1)",
+            )
+        dense = sol.sol(xi[outer])
+        theta[outer], dtheta[outer] = dense[0], dense[1]
+    return theta, dtheta
+
+
 def lane_emden(n: float, points: int = 2001, *, rtol: float = 1e-13) -> LaneEmdenSolution:
     """Integrate the Lane–Emden equation of index ``n`` to its first zero.
 
     Parameters
     ----------
     n : float
-        Polytropic index, 0 ≤ n < 5 (for n ≥ 5 there is no finite surface).
+        Polytropic index, 0 ≤ n < 5 (for n ≥ 5 there is no finite surface;
+        use `emden_solution` to sample those on a finite range).
     points : int
         Number of samples returned from centre to surface; they are spaced
         as r/R = (1 − cos πs)/2 in s ∈ [0, 1], denser at both ends where the
@@ -94,34 +220,13 @@ def lane_emden(n: float, points: int = 2001, *, rtol: float = 1e-13) -> LaneEmde
     OptionError
         If ``n`` is outside [0, 5) or ``points`` < 3.
     """
-    n = float(n)
-    if not (0.0 <= n < 5.0) or not np.isfinite(n):
-        raise OptionError(
-            f"polytropic index must satisfy 0 <= n < 5, got {n}",
-            hint="n = 5 and above have no finite radius",
-        )
+    n = _check_index(n, 5.0)
     if points < 3:
         raise OptionError(f"points must be at least 3, got {points}")
-
-    def rhs(xi: float, y: np.ndarray) -> list[float]:
-        theta, dtheta = y
-        # |θ|ⁿ keeps non-integer n defined for the step that overshoots the zero.
-        return [dtheta, -np.abs(theta) ** n * np.sign(theta) - 2.0 * dtheta / xi]
-
-    def surface(xi: float, y: np.ndarray) -> float:
-        return y[0]
-
-    surface.terminal = True
-    surface.direction = -1
     theta0, dtheta0 = _series(n, np.array(_XI_START))
-    sol = solve_ivp(
-        rhs, (_XI_START, 1e4), [float(theta0), float(dtheta0)], method="DOP853",
-        rtol=rtol, atol=1e-300, events=surface, dense_output=True,
-    )
-    if sol.t_events[0].size == 0:  # pragma: no cover - n < 5 always has a zero
+    sol, xi1, dtheta1 = _integrate_emden(n, _XI_START, float(theta0), float(dtheta0), 1e4, rtol)
+    if xi1 is None:  # pragma: no cover - n < 5 always has a zero
         raise OptionError(f"no surface found for n = {n}")
-    xi1 = float(sol.t_events[0][0])
-    dtheta1 = float(sol.y_events[0][0][1])
     s = np.linspace(0.0, 1.0, points)
     xi = xi1 * 0.5 * (1.0 - np.cos(np.pi * s))
     theta = np.empty_like(xi)
@@ -181,7 +286,7 @@ def polytrope(
     # d ln p/dr = (n+1) θ′/(α θ); N² = g d ln p/dr [1/Γ₁ − n/(n+1)] (finite inside).
     with np.errstate(divide="ignore", invalid="ignore"):
         dlnp = (n + 1.0) * sol.dtheta / (alpha * sol.theta)
-    n2 = g * dlnp * (1.0 / gamma1 - n / (n + 1.0))
+        n2 = g * dlnp * (1.0 / gamma1 - n / (n + 1.0))
     n2[0] = 0.0
     if n > 0:
         n2[-1] = -np.inf if (1.0 / gamma1 - n / (n + 1.0)) > 0 else np.inf
