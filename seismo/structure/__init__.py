@@ -6,6 +6,15 @@ package reads model profiles (`StellarProfile`), builds analytic models
 """
 
 from .composite import composite_polytrope
+from .dipole import PredictedDipoleModes, predicted_dipole_modes
+from .observables import (
+    Cavities,
+    ModelObservables,
+    asymptotic_dnu,
+    mode_cavities,
+    period_spacing,
+    seismic_observables,
+)
 from .polytropes import (
     LaneEmdenSolution,
     emden_solution,
@@ -21,6 +30,8 @@ from .profiles import (
     check_profile,
 )
 from .reading import read_profile
+from .solver import Mode, dnu_from_radial_modes, modes, nonradial_modes, radial_modes
+from .tracks import Track, read_track_table, read_tracks, track_from_profiles, tracks_table
 
 __all__ = [
     "StellarProfile",
@@ -35,4 +46,22 @@ __all__ = [
     "homogeneous_sphere",
     "emden_solution",
     "composite_polytrope",
+    "seismic_observables",
+    "ModelObservables",
+    "Cavities",
+    "asymptotic_dnu",
+    "period_spacing",
+    "mode_cavities",
+    "PredictedDipoleModes",
+    "predicted_dipole_modes",
+    "Mode",
+    "modes",
+    "radial_modes",
+    "nonradial_modes",
+    "dnu_from_radial_modes",
+    "Track",
+    "read_tracks",
+    "read_track_table",
+    "track_from_profiles",
+    "tracks_table",
 ]
