@@ -5,8 +5,18 @@ package reads model profiles (`StellarProfile`), builds analytic models
 (polytropes), and computes the seismic observables from them.
 """
 
+from .builtin import BUILTIN_MODELS, builtin_model, is_builtin_model
 from .composite import composite_polytrope
 from .dipole import PredictedDipoleModes, predicted_dipole_modes
+from .grid import (
+    GridEstimate,
+    ModelGrid,
+    grid_details,
+    grid_estimate,
+    grid_estimate_for_result,
+    load_demo_grid,
+    read_grid,
+)
 from .observables import (
     Cavities,
     ModelObservables,
@@ -64,4 +74,14 @@ __all__ = [
     "read_track_table",
     "track_from_profiles",
     "tracks_table",
+    "BUILTIN_MODELS",
+    "builtin_model",
+    "is_builtin_model",
+    "ModelGrid",
+    "GridEstimate",
+    "read_grid",
+    "load_demo_grid",
+    "grid_estimate",
+    "grid_estimate_for_result",
+    "grid_details",
 ]
