@@ -92,6 +92,22 @@ def _add_science_options(parser: argparse.ArgumentParser) -> None:
     group.add_argument("--f-dnu", type=float, default=1.0, metavar="F",
                        help="model-based correction factor of the Δν scaling relation "
                             "(default 1)")
+    group.add_argument("--feh", type=float, metavar="DEX",
+                       help="metallicity [Fe/H] in dex (used by --grid)")
+    group.add_argument("--feh-err", type=float, metavar="DEX",
+                       help="1-sigma error of --feh in dex (default 0.1)")
+    _add_grid_options(group)
+
+
+def _add_grid_options(group: Any) -> None:
+    from .structure.grid import MASS_PRIORS
+
+    group.add_argument("--grid", metavar="GRID",
+                       help="grid of model tracks (.ecsv, .csv, .fits; see docs/structure.md) "
+                            "for grid-based mass, radius and age, or 'demo' for the bundled "
+                            "demo grid (invented for illustration)")
+    group.add_argument("--mass-prior", default=None, choices=sorted(MASS_PRIORS),
+                       help="prior on the mass of the grid models (default flat)")
 
 
 def build_parser() -> argparse.ArgumentParser:
@@ -149,6 +165,9 @@ def build_parser() -> argparse.ArgumentParser:
     simulate.add_argument("--no-oscillations", action="store_true",
                           help="granulation and noise only")
     _add_survey_parsers(sub)
+    from .cli_structure import add_structure_parsers
+
+    add_structure_parsers(sub)
     return parser
 
 
@@ -188,6 +207,7 @@ def _add_survey_parsers(sub: Any) -> None:
                              "checksum (default 0)")
     survey.add_argument("--quiet", action="store_true",
                         help="no progress and no summary")
+    _add_grid_options(survey)
 
     catalog = sub.add_parser(
         "catalog", help="export the catalog of a survey folder",
@@ -224,7 +244,7 @@ def _collect_inputs(paths: Sequence[str]) -> list[Path]:
 
 def _config_from_args(args: argparse.Namespace) -> Any:
     from .background import DetectionOptions
-    from .config import AnalysisConfig, ScalingOptions, SpectrumOptions
+    from .config import AnalysisConfig, GridOptions, ScalingOptions, SpectrumOptions
     from .lightcurve import ConditionOptions, ReadOptions
 
     hdu: int | str | None = args.hdu
@@ -245,6 +265,7 @@ def _config_from_args(args: argparse.Namespace) -> Any:
         detection=DetectionOptions(false_alarm=args.false_alarm),
         scaling=ScalingOptions(reference=args.reference, correction=args.correction,
                                f_dnu=args.f_dnu),
+        grid=GridOptions(path=args.grid, mass_prior=args.mass_prior or "flat"),
     )
 
 
@@ -253,9 +274,11 @@ def _inputs_from_args(args: argparse.Namespace) -> Any:
 
     if args.teff_err is not None and args.teff is None:
         raise OptionError("--teff-err was given without --teff")
+    if args.feh_err is not None and args.feh is None:
+        raise OptionError("--feh-err was given without --feh")
     teff_err = args.teff_err if args.teff_err is not None else (
         100.0 if args.teff is not None else None)
-    return StarInputs(teff=args.teff, teff_err=teff_err)
+    return StarInputs(teff=args.teff, teff_err=teff_err, feh=args.feh, feh_err=args.feh_err)
 
 
 def _fmt(m: Any, unit: str = "", digits: int = 4) -> str:
@@ -303,11 +326,28 @@ def _human_summary(analysis: Any, figure: Path | None) -> str:
         ]
         if r.mass is not None:
             lines.append(f"  note       {BIAS_NOTE}")
+    grid = r.details.get("grid")
+    if grid:
+        lines.append(_grid_line(grid))
     if r.flags:
         lines.append(f"  flags      {', '.join(r.flags)}")
     if figure is not None:
         lines.append(f"  figure     {figure}")
     return "\n".join(lines)
+
+
+def _grid_line(grid: dict[str, Any]) -> str:
+    parts = []
+    for key, unit in (("mass", " M☉"), ("radius", " R☉"), ("age", " Gyr")):
+        m = grid.get(key)
+        if m and m.get("value") is not None:
+            lo, hi = m.get("err_lo"), m.get("err_hi")
+            spread = "" if lo is None or hi is None else f" −{lo:.2g}/+{hi:.2g}"
+            parts.append(f"{key} {m['value']:.3g}{spread}{unit}")
+    text = ", ".join(parts) if parts else "no estimate"
+    n_eff = grid.get("n_eff")
+    extra = "" if n_eff is None else f" ({n_eff:.0f} effective models)"
+    return f"  grid       {text}{extra}"
 
 
 def _run_analyze(args: argparse.Namespace) -> int:
@@ -386,6 +426,15 @@ def _run_survey(args: argparse.Namespace) -> int:
     from .survey import load_config, run_survey
 
     config = load_config(args.config) if args.config else None
+    if args.grid is not None or args.mass_prior is not None:
+        from dataclasses import replace
+
+        from .config import AnalysisConfig
+
+        base = config or AnalysisConfig()  # the command line overrides the [grid] section
+        changes = {k: v for k, v in (("path", args.grid), ("mass_prior", args.mass_prior))
+                   if v is not None}
+        config = replace(base, grid=replace(base.grid, **changes))
     if args.workers is not None and args.workers < 1:
         raise OptionError(f"--workers must be at least 1; got {args.workers}")
     if args.timeout_per_star is not None and not args.timeout_per_star > 0:
@@ -454,6 +503,10 @@ def main(argv: Sequence[str] | None = None) -> int:
             return _run_survey(args)
         if args.command == "catalog":
             return _run_catalog(args)
+        if args.command in ("model", "tracks"):
+            from .cli_structure import run_model, run_tracks
+
+            return (run_model if args.command == "model" else run_tracks)(args)
         return _run_simulate(args)
     except _UsageError as err:
         print(f"seismo: error: {err}", file=sys.stderr)
@@ -465,7 +518,7 @@ def main(argv: Sequence[str] | None = None) -> int:
         print("seismo: interrupted", file=sys.stderr)
         return 130
     except Exception as exc:
-        if args.command not in ("survey", "catalog"):
+        if args.command not in ("survey", "catalog", "model", "tracks"):
             raise
         print(f"seismo: internal error: {type(exc).__name__}: {exc} (please report it)",
               file=sys.stderr)

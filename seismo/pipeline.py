@@ -4,11 +4,14 @@ Stages are composed here; none of them reads files (except the reader at the
 edge), prints or plots::
 
     read → condition → spectrum → detection → background + numax
-         → Δν and the radial pattern → scaling relations → StarResult
+         → Δν and the radial pattern → scaling relations → mixed modes
+         → evolutionary state → [grid of models] → StarResult
 """
 
 from __future__ import annotations
 
+import dataclasses
+import functools
 import hashlib
 import os
 from dataclasses import dataclass
@@ -24,7 +27,8 @@ from .lightcurve import LightCurve, condition, read_lightcurve
 from .results import Measurement, StarResult
 from .spectrum import PowerSpectrum, power_spectrum
 
-__all__ = ["Prepared", "prepare", "summarize", "file_checksum", "Analysis", "analyze"]
+__all__ = ["Prepared", "prepare", "summarize", "file_checksum", "Analysis", "analyze",
+           "grid_stage"]
 
 
 @dataclass(frozen=True, eq=False)
@@ -177,6 +181,9 @@ class Analysis:
         Scaling-relation estimates (`seismo.scaling.ScalingEstimates`).
     result : StarResult
         The schema-level result.
+    grid : object or None
+        Grid-based estimates (`seismo.structure.GridEstimate`), when the
+        configuration names a grid.
     """
 
     prepared: Prepared
@@ -186,6 +193,7 @@ class Analysis:
     result: StarResult
     mixed: Any = None
     state: Any = None
+    grid: Any = None
 
     @property
     def background(self) -> BackgroundFit:
@@ -266,7 +274,8 @@ def analyze(
                                  "state_needs_detection"]),
             provenance=provenance, details=details,
         )
-        return Analysis(prepared, detection, None, None, result)
+        result, grid = grid_stage(result, config, inputs)
+        return Analysis(prepared, detection, None, None, result, grid=grid)
 
     fit = detection.fit
     numax = Measurement.or_none(fit.value("envelope:numax"), fit.error("envelope:numax"))
@@ -333,4 +342,53 @@ def analyze(
         eps_g=None if mixed is None else mixed.eps_g,
         rot_core=None if mixed is None else mixed.rot_core,
     )
-    return Analysis(prepared, detection, pattern, scaling, result, mixed, state)
+    result, grid = grid_stage(result, config, inputs)
+    return Analysis(prepared, detection, pattern, scaling, result, mixed, state, grid)
+
+
+@functools.lru_cache(maxsize=2)
+def _load_grid(path: str, size: int, mtime_ns: int) -> Any:
+    # One read per process and grid file version: reading and refining a grid
+    # costs far more than one star's estimate.
+    from .structure.grid import read_grid
+
+    return read_grid(path)
+
+
+def grid_stage(result: StarResult, config: AnalysisConfig, inputs: StarInputs
+               ) -> tuple[StarResult, Any]:
+    """Add grid-based mass, radius, age and log g to a result (when a grid is configured).
+
+    Parameters
+    ----------
+    result : StarResult
+        The result of the seismic stages (Δν and numax in μHz, ΔΠ1 in s, state).
+    config : AnalysisConfig
+        ``config.grid`` names the grid; without one the result is returned as is.
+    inputs : StarInputs
+        Teff (K), [Fe/H] (dex) and their errors; without Teff the grid is
+        weighed by Δν, numax (and ΔΠ1, state) alone, with a flag.
+
+    Returns
+    -------
+    (StarResult, GridEstimate or None)
+        The result with ``details["grid"]`` (medians and 16/84 percentiles,
+        see `seismo.structure.grid_details`) and the grid's flags added.
+    """
+    options = config.grid
+    path = options.resolved_path()
+    if path is None:
+        return result, None
+    from .structure.grid import grid_details, grid_estimate_for_result
+
+    info = os.stat(path)
+    grid = _load_grid(path, info.st_size, info.st_mtime_ns)
+    feh_err = inputs.feh_err if inputs.feh_err is not None else options.feh_err
+    estimate = grid_estimate_for_result(
+        grid, result, teff=inputs.teff, teff_err=inputs.teff_err, feh=inputs.feh,
+        feh_err=None if inputs.feh is None else feh_err, use_dpi1=options.use_dpi1,
+        use_state=options.use_state, mass_prior=options.mass_prior,
+    )
+    details = {**result.details, "grid": grid_details(estimate)}
+    flags = result.flags + tuple(f for f in estimate.flags if f not in result.flags)
+    return dataclasses.replace(result, details=details, flags=flags), estimate

@@ -32,6 +32,8 @@ __all__ = [
     "track_from_profiles",
     "read_track_table",
     "read_tracks",
+    "tracks_from_table",
+    "demo_tracks",
     "tracks_table",
 ]
 
@@ -326,38 +328,110 @@ def read_track_table(
         If ``columns`` names a key that is not one of `TRACK_COLUMNS`.
     """
     path = Path(path)
+    table = _read_table(path)
+    try:
+        return tracks_from_table(table, columns=columns, label=label or path.stem,
+                                 source=str(path))
+    except ColumnError as exc:
+        raise exc.with_path(str(path)) from None
+
+
+def tracks_from_table(
+    table: Any,
+    *,
+    columns: Mapping[str, str] | None = None,
+    label: str = "track",
+    source: str | None = None,
+) -> list[Track]:
+    """Tracks from an astropy table of global quantities (see `read_track_table`).
+
+    Parameters
+    ----------
+    table : astropy.table.Table
+        One row per model, columns of `TRACK_COLUMNS`.
+    columns : Mapping[str, str], optional
+        Our name -> the table's name.
+    label : str
+        Label of a table without a ``track`` column.
+    source : str, optional
+        Where the table came from, recorded in each track's meta.
+
+    Returns
+    -------
+    list of Track
+
+    Raises
+    ------
+    ColumnError, OptionError
+        As `read_track_table`.
+    """
     mapping = dict(columns or {})
     unknown = sorted(set(mapping) - set(TRACK_COLUMNS))
     if unknown:
         raise OptionError(f"columns has unknown keys {unknown}; allowed are {list(TRACK_COLUMNS)}")
-    table = _read_table(path)
-    try:
-        names = {ours: _find(table, ours, mapping) for ours in TRACK_COLUMNS}
-        if names["dnu"] is None or (names["age"] is None and names["model"] is None):
-            raise ColumnError(
-                f"a track table needs 'dnu' and 'age' or 'model' columns; it has "
-                f"{table.colnames}", hint="rename them or pass columns={our_name: file_name}")
-        n_rows = len(table)
-        data = {ours: (_values(table, names[ours], ours) if names[ours] else
-                       np.full(n_rows, np.nan)) for ours in _NUMERIC}
-    except ColumnError as exc:
-        raise exc.with_path(str(path)) from None
+    names = {ours: _find(table, ours, mapping) for ours in TRACK_COLUMNS}
+    if names["dnu"] is None or (names["age"] is None and names["model"] is None):
+        raise ColumnError(
+            f"a track table needs 'dnu' and 'age' or 'model' columns; it has "
+            f"{table.colnames}", hint="rename them or pass columns={our_name: file_name}")
+    n_rows = len(table)
+    data = {ours: (_values(table, names[ours], ours) if names[ours] else
+                   np.full(n_rows, np.nan)) for ours in _NUMERIC}
     model = (np.asarray(table[names["model"]], dtype=np.int64) if names["model"]
              else np.arange(n_rows))
     state = (np.char.strip(np.asarray(table[names["state"]]).astype(str)) if names["state"]
              else np.full(n_rows, "unknown"))
     labels = (np.asarray(table[names["track"]]).astype(str) if names["track"]
-              else np.full(n_rows, label or path.stem))
+              else np.full(n_rows, label))
     _, first = np.unique(labels, return_index=True)
     tracks = []
     for name in labels[np.sort(first)]:
         sel = labels == name
         tracks.append(Track(
             label=str(name), model=model[sel], state=state[sel], dnu_kind="table",
-            meta={"source": "table", "file": str(path)},
+            meta={"source": "table", "file": source},
             **{key: value[sel] for key, value in data.items()},
         ))
     return tracks
+
+
+def demo_tracks(masses: Iterable[float] = (1.0, 1.5, 2.5), feh: float = 0.1) -> list[Track]:
+    """A few tracks of the bundled demo grid (INVENTED FOR ILLUSTRATION).
+
+    Parameters
+    ----------
+    masses : iterable of float
+        Initial masses, M☉, each matched to the nearest track mass of the grid.
+    feh : float
+        [Fe/H], dex, matched to the nearest of the grid.
+
+    Returns
+    -------
+    list of Track
+        Labelled ``"<mass> M☉ (demo)"``; see `seismo.structure.make_demo_grid`
+        for the invented prescriptions behind them.
+    """
+    from astropy.table import Table
+
+    from .grid import demo_grid_path
+
+    path = demo_grid_path()
+    table = Table.read(path, format="ascii.ecsv")
+    grid_feh = np.asarray(table["feh"], dtype=float)
+    grid_mass = np.asarray(table["mass"], dtype=float)
+    levels = np.unique(grid_feh)
+    near_feh = levels[np.argmin(np.abs(levels - feh))]
+    keep = np.zeros(len(table), dtype=bool)
+    labels = np.empty(len(table), dtype=object)
+    for mass in masses:
+        options = np.unique(grid_mass[grid_feh == near_feh])
+        chosen = options[np.argmin(np.abs(options - mass))]
+        sel = (grid_feh == near_feh) & (grid_mass == chosen)
+        keep |= sel
+        labels[sel] = f"{chosen:g} M☉ (demo)"
+    picked = table[keep]
+    picked["track"] = np.asarray(labels[keep], dtype=str)
+    return tracks_from_table(picked, source=f"{path} (demo grid, [Fe/H] = {near_feh:+.1f})")
 
 
 def read_tracks(

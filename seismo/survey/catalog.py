@@ -4,10 +4,12 @@ The star table has one row per done star: ``id``, ``path``, ``detected``,
 each measurement of `seismo.results.MEASUREMENT_FIELDS` as a column with its
 astropy unit and its error as ``<name>_err``, ``state``,
 ``state_probability``, ``flags`` (joined with ``";"``) and the provenance
-(``config_hash``, ``input_checksum``, ``seed``, ``version``). Quantities not
-measured are NaN. Failed stars go to a second table (``path``, ``error_class``,
-``error_message``, ``checksum``, ``seconds``, ``worker``) written beside the
-first as ``<stem>.failed<suffix>``.
+(``config_hash``, ``input_checksum``, ``seed``, ``version``); when the run used
+a grid of models, ``grid_mass``, ``grid_radius``, ``grid_age``, ``grid_logg``
+with ``_err_lo``/``_err_hi`` (distances to the 16th/84th percentiles) and
+``grid_n_eff``. Quantities not measured are NaN. Failed stars go to a second
+table (``path``, ``error_class``, ``error_message``, ``checksum``, ``seconds``,
+``worker``) written beside the first as ``<stem>.failed<suffix>``.
 
 Formats follow the suffix: ``.ecsv`` (units kept), ``.fits`` (units kept
 except the function unit of ``logg``, written as plain ``dex`` in the column
@@ -108,6 +110,7 @@ def catalog_tables(records: Iterable[StarRecord]) -> tuple[Any, Any]:
         stars[key] = np.array([str((r.get("provenance") or {}).get(key) or "")
                                for _, r in done], dtype=str)
     stars["seconds"] = np.array([rec.seconds for rec, _ in done], dtype=float)
+    _grid_columns(stars, [r for _, r in done])
 
     failures = Table()
     failures["path"] = np.array([rec.path for rec in failed], dtype=str)
@@ -117,6 +120,30 @@ def catalog_tables(records: Iterable[StarRecord]) -> tuple[Any, Any]:
     failures["seconds"] = np.array([rec.seconds for rec in failed], dtype=float)
     failures["worker"] = np.array([rec.worker for rec in failed], dtype=str)
     return stars, failures
+
+
+#: Grid-estimate columns: quantity → astropy unit name (see `seismo.structure.grid_details`).
+_GRID_UNITS = {"mass": "solMass", "radius": "solRad", "age": "Gyr", "logg": "dex(cm / s2)"}
+
+
+def _grid_columns(stars: Any, results: list[dict[str, Any]]) -> None:
+    """Add ``grid_<q>``, ``grid_<q>_err_lo/_hi`` and ``grid_n_eff`` when a run used a grid."""
+    import astropy.units as u
+
+    grids = [((r.get("details") or {}).get("grid") or {}) for r in results]
+    if not any(grids):
+        return
+    for name, unit_name in _GRID_UNITS.items():
+        unit = u.Unit(unit_name)
+        for suffix, key in (("", "value"), ("_err_lo", "err_lo"), ("_err_hi", "err_hi")):
+            picked = [(g.get(name) or {}).get(key) for g in grids]
+            values = np.array([np.nan if v is None else v for v in picked], dtype=float)
+            stars[f"grid_{name}{suffix}"] = values * unit
+        stars[f"grid_{name}"].info.description = (
+            f"grid-based {name}: median of the posterior; _err_lo/_err_hi to the 16/84 "
+            "percentiles")
+    stars["grid_n_eff"] = np.array([np.nan if g.get("n_eff") is None else g["n_eff"]
+                                    for g in grids], dtype=float)
 
 
 def _write(table: Any, path: Path) -> None:

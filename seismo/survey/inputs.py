@@ -7,7 +7,8 @@ INPUTS is one of
 - a text list (any suffix other than the table ones): one path per line,
   ``#`` starts a comment;
 - a table (``.csv``, ``.ecsv``, ``.fits``, ``.fit``) with a ``path`` column
-  and optional ``id``, ``teff``, ``teff_err`` (K) and ``feh`` (dex) columns.
+  and optional ``id``, ``teff``, ``teff_err`` (K), ``feh`` and ``feh_err`` (dex)
+  columns.
 
 Relative paths in a list or table are taken relative to the folder holding
 the list. The configuration comes from a TOML file whose sections
@@ -35,15 +36,16 @@ TABLE_SUFFIXES = (".csv", ".ecsv", ".fits", ".fit")
 
 def _sections() -> dict[str, type]:
     from ..background import DetectionOptions
-    from ..config import ScalingOptions, SpectrumOptions
+    from ..config import GridOptions, ScalingOptions, SpectrumOptions
     from ..lightcurve import ConditionOptions, ReadOptions
 
     return {"read": ReadOptions, "condition": ConditionOptions, "spectrum": SpectrumOptions,
-            "detection": DetectionOptions, "scaling": ScalingOptions}
+            "detection": DetectionOptions, "scaling": ScalingOptions, "grid": GridOptions}
 
 
 #: Sections of a TOML configuration file, in the order of `AnalysisConfig`.
-CONFIG_SECTIONS: tuple[str, ...] = ("read", "condition", "spectrum", "detection", "scaling")
+CONFIG_SECTIONS: tuple[str, ...] = ("read", "condition", "spectrum", "detection", "scaling",
+                                   "grid")
 
 
 @dataclass(frozen=True)
@@ -132,7 +134,7 @@ def _from_table(table_path: Path) -> list[StarTask]:
             raise InputError(f"row {i} of the inputs table has an empty path",
                              path=str(table_path))
         values = {key: _number(row[names[key]]) if key in names else None
-                  for key in ("teff", "teff_err", "feh")}
+                  for key in ("teff", "teff_err", "feh", "feh_err")}
         if values["teff"] is not None and values["teff_err"] is None:
             values["teff_err"] = 100.0
         try:

@@ -55,7 +55,13 @@ weighted percentiles of the points that carry weight.
 """
 
 
-from .estimate import GridEstimate, grid_details, grid_estimate, grid_estimate_for_result
+from .estimate import (
+    MODEL_ERRORS,
+    GridEstimate,
+    grid_details,
+    grid_estimate,
+    grid_estimate_for_result,
+)
 from .model import (
     GRID_COLUMNS,
     GRID_STATES,
@@ -69,6 +75,7 @@ from .model import (
 
 __all__ = [
     "GRID_COLUMNS",
+    "MODEL_ERRORS",
     "GRID_STATES",
     "MASS_PRIORS",
     "ModelGrid",

@@ -3,7 +3,7 @@
 from __future__ import annotations
 
 import math
-from collections.abc import Callable
+from collections.abc import Callable, Mapping
 from dataclasses import dataclass, field
 from typing import Any
 
@@ -22,7 +22,19 @@ from .model import (
     ModelGrid,
 )
 
-__all__ = ["GridEstimate", "grid_estimate", "grid_estimate_for_result", "grid_details"]
+__all__ = ["GridEstimate", "grid_estimate", "grid_estimate_for_result", "grid_details",
+           "MODEL_ERRORS"]
+
+#: Default systematic errors of grid models, added in quadrature to the observed ones:
+#: fractions of ``dnu`` (Δν-scaling corrections and surface effects of a few per cent
+#: in red-giant models: White et al. 2011, ApJ 743, 161; Sharma et al. 2016, ApJ 822,
+#: 15), ``numax`` (scaling relation, a few per cent) and ``dpi1`` (the models' ΔΠ1
+#: depends on near-core mixing by up to ~10 % in the clump: Bossini et al. 2015,
+#: MNRAS 453, 2290), and absolute ``teff`` (K) and ``feh`` (dex) (common practice;
+#: all values from memory).
+MODEL_ERRORS: dict[str, float] = {"dnu": 0.01, "numax": 0.02, "dpi1": 0.05, "teff": 50.0,
+                                  "feh": 0.05}
+_RELATIVE_ERRORS = ("dnu", "numax", "dpi1")
 
 # ---------------------------------------------------------------------------
 # Per-star estimate
@@ -169,6 +181,7 @@ def grid_estimate(
     mass_prior: str | Callable[[np.ndarray], np.ndarray] = "flat",
     min_effective: float = 10.0,
     box_sigma: float = 8.0,
+    model_error: Mapping[str, float] | None = None,
 ) -> GridEstimate:
     """Mass, radius, age and log g of one star from a model grid.
 
@@ -249,6 +262,15 @@ def grid_estimate(
     obs = {"dnu": _pair("dnu", dnu, dnu_err, True), "numax": _pair("numax", numax, numax_err, True),
            "teff": _pair("teff", teff, teff_err, False), "feh": _pair("feh", feh, feh_err, False),
            "dpi1": _pair("dpi1", dpi1, dpi1_err, False)}
+    floors = {**MODEL_ERRORS, **(model_error or {})}
+    unknown = sorted(set(floors) - set(MODEL_ERRORS))
+    if unknown or not all(np.isfinite(v) and v >= 0 for v in floors.values()):
+        raise OptionError(f"model_error takes non-negative errors for {sorted(MODEL_ERRORS)}; "
+                          f"got {dict(model_error or {})!r}")
+    for name, pair in list(obs.items()):
+        if pair is not None:
+            floor = floors[name] * (abs(pair[0]) if name in _RELATIVE_ERRORS else 1.0)
+            obs[name] = (pair[0], math.hypot(pair[1], floor))
     if obs["dnu"][0] <= 0 or obs["numax"][0] <= 0:
         raise OptionError(f"dnu and numax must be > 0 μHz; got {dnu!r} and {numax!r}")
     state_code = None
