@@ -32,20 +32,28 @@ def _catalog_table(catalog: Any) -> Any:
 
 
 def _draw_track(ax: Any, x: np.ndarray, y: np.ndarray, colour: str, label: str,
-                extent: tuple[float, float, float, float]) -> None:
-    """A track as a line with markers, arrows in age order and a label at its end."""
+                extent: tuple[float, float, float, float], state: np.ndarray) -> None:
+    """A track as a line with markers, arrows in age order and a label at its end.
+
+    The line is broken where the evolutionary state changes: the jump from the
+    RGB to the clump (helium ignition) is not a path through the diagram.
+    """
     good = np.isfinite(x) & np.isfinite(y)
-    x, y = x[good], y[good]
+    x, y, state = x[good], y[good], np.asarray(state)[good]
     if x.size == 0:
         ax.plot([], [], "-", color=colour, label=f"{label} (no values here)")
         return
-    ax.plot(x, y, "-", color=colour, lw=1.6, zorder=5, label=label)
+    breaks = np.flatnonzero(state[1:] != state[:-1]) + 1
+    ax.plot(np.insert(x, breaks, np.nan), np.insert(y, breaks, np.nan), "-", color=colour,
+            lw=1.6, zorder=5, label=label)
     ax.plot(x, y, "o", color=colour, ms=3.5, zorder=6)
     ax.plot(x[:1], y[:1], "o", mfc="white", mec=colour, ms=7, mew=1.5, zorder=7)
     # Arrows at a few points along the track show the direction of increasing age.
     for i in np.unique(np.linspace(0, x.size - 2, min(4, max(x.size - 1, 0))).astype(int)):
         if x.size < 2:
             break
+        if state[i] != state[i + 1]:
+            continue
         ax.annotate("", xy=(x[i + 1], y[i + 1]), xytext=(x[i], y[i]), zorder=6,
                     arrowprops={"arrowstyle": "-|>", "color": colour, "lw": 1.4,
                                 "mutation_scale": 14})
@@ -116,8 +124,8 @@ def plot_tracks(
         _by_state(ax_n, states, numax, dnu, _NUMAX_DNU, log_x=True, log_y=True)
     for i, track in enumerate(tracks):
         colour = _TRACK_COLOURS[i % len(_TRACK_COLOURS)]
-        _draw_track(ax_d, track.dnu, track.dpi1, colour, track.label, _DIAGRAM)
-        _draw_track(ax_n, track.numax, track.dnu, colour, track.label, _NUMAX_DNU)
+        _draw_track(ax_d, track.dnu, track.dpi1, colour, track.label, _DIAGRAM, track.state)
+        _draw_track(ax_n, track.numax, track.dnu, colour, track.label, _NUMAX_DNU, track.state)
 
     ax_d.set_xlim(*_DIAGRAM[:2])
     ax_d.set_ylim(*_DIAGRAM[2:])
