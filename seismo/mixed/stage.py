@@ -165,6 +165,20 @@ def measure_mixed_modes(
         return _empty(["dpi1_resolution"], inputs)
     if pattern.dnu is None or pattern.eps_p is None:
         return _empty(["dpi1_no_pattern"], inputs)
+    mask = _region(ps, numax, pattern, inputs)
+    n_bins = int(mask.sum())
+    threshold = -np.log(false_alarm / max(n_bins, 1))
+    inputs.update(threshold=float(threshold), n_bins=n_bins)
+    freq, snr = _find_peaks(ps.freq, ps.density / bg, mask, threshold,
+                            max(2.5 * df, 0.5 * _TYPICAL_LINEWIDTH))
+    if freq.size < _MIN_PEAKS:
+        return _empty(["dpi1_few_peaks"], inputs, freq, snr)
+    return _solve(freq, snr, df, inputs)
+
+
+def _region(ps: PowerSpectrum, numax: float, pattern: Any, inputs: dict[str, Any]
+            ) -> np.ndarray:
+    """Analysis window and dipole mask, shape (n_freq,); ``inputs`` updated in place."""
     dnu, eps = float(pattern.dnu.value), float(pattern.eps_p.value)
     alpha = float(pattern.alpha.value) if pattern.alpha is not None \
         else float(relations.curvature_from_dnu(dnu))
@@ -174,23 +188,55 @@ def measure_mixed_modes(
     lo = max(numax - _WINDOW_SIGMAS * sigma_env, float(ps.freq[1]))
     hi = min(numax + _WINDOW_SIGMAS * sigma_env, float(ps.freq[-1]), float(ps.nyquist))
     inputs.update(dnu=dnu, eps_p=eps, alpha=alpha, window=(lo, hi))
+    return _dipole_mask(ps.freq, lo, hi, numax, dnu, eps, alpha, d02, ps.df)
 
-    mask = _dipole_mask(ps.freq, lo, hi, numax, dnu, eps, alpha, d02, df)
-    n_bins = int(mask.sum())
-    threshold = -np.log(false_alarm / max(n_bins, 1))
-    inputs.update(threshold=float(threshold), n_bins=n_bins)
+
+def _shuffled_scores(ps: PowerSpectrum, background: Any, numax: float, pattern: Any,
+                     n_shuffles: int, rng: np.random.Generator | int | None = None,
+                     false_alarm: float = 0.9) -> list[float]:
+    """Winning mixture scores of the star's peak list moved to random dipole bins.
+
+    The false-alarm calibration of `_MIN_SCORE`: the peaks of the real
+    spectrum (same number, same S/B) are placed on distinct bins drawn
+    uniformly from the dipole region, which keeps the density of peaks and
+    the masking of l = 0, 2, 3 but destroys any period spacing; the whole
+    search and refinement is then run on each list. Returns one score per
+    shuffle (an empty list when the real list is too short to be searched).
+    """
+    numax, bg = _validate(ps, background, numax, pattern, false_alarm)
+    rng = np.random.default_rng(rng)
+    inputs: dict[str, Any] = {"numax": numax, "false_alarm": float(false_alarm)}
+    mask = _region(ps, numax, pattern, inputs)
+    threshold = -np.log(false_alarm / max(int(mask.sum()), 1))
     freq, snr = _find_peaks(ps.freq, ps.density / bg, mask, threshold,
-                            max(2.5 * df, 0.5 * _TYPICAL_LINEWIDTH))
+                            max(2.5 * ps.df, 0.5 * _TYPICAL_LINEWIDTH))
     if freq.size < _MIN_PEAKS:
-        return _empty(["dpi1_few_peaks"], inputs, freq, snr)
+        return []
+    bins = ps.freq[mask]
+    scores = []
+    for _ in range(n_shuffles):  # a loop over shuffles, each a full search
+        fake = np.sort(rng.choice(bins, size=freq.size, replace=False))
+        result = _solve(fake, rng.permutation(snr), ps.df, dict(inputs))
+        scores.append(max((c["score"] for c in result.candidates), default=-np.inf))
+    return scores
 
+
+def _solve(freq: np.ndarray, snr: np.ndarray, df: float, inputs: dict[str, Any]
+           ) -> PeriodSpacing:
+    """Candidates, refinement and checks for one list of dipole peaks.
+
+    ``inputs`` must hold ``numax``, ``dnu``, ``eps_p``, ``alpha``, ``window`` and
+    ``false_alarm`` (as set by `measure_mixed_modes`); it is updated in place.
+    """
+    numax, dnu, eps, alpha = inputs["numax"], inputs["dnu"], inputs["eps_p"], inputs["alpha"]
+    lo, hi = inputs["window"]
     d01 = float(relations.d01_from_dnu(dnu))
     orders = np.arange(np.floor(lo / dnu - eps) - 2, np.ceil(hi / dnu - eps) + 2)
     model = _Model(freq, dnu, numax, eps, alpha, d01, orders, df)
     nu_p0 = model.nu_p(0.0)
     grid, power_all, best, hyp, n_trials = _search(freq, nu_p0, dnu, numax)
     power = power_all[np.arange(grid.size), best]
-    inputs["search_level"] = float(np.log(n_trials / false_alarm))
+    inputs["search_level"] = float(np.log(n_trials / inputs["false_alarm"]))
     picks = _local_maxima(power, grid, _N_CANDIDATES, 0.02)
     if picks.size == 0:
         return _empty(["dpi1_no_periodicity"], inputs, freq, snr)
