@@ -211,7 +211,9 @@ def test_composite_buoyancy_zones(giant):
     bare = StellarProfile(r=giant.r, m=giant.m, rho=giant.rho, p=giant.p,
                           gamma1=giant.gamma1, mass=giant.mass, radius=giant.radius)
     derived = buoyancy_from_structure(bare)
-    core = slice(10, i - 1)
+    # Away from the centre too, where ln p hardly changes between mesh points and the ratio
+    # of differences is round-off (as in the N² tests of the plain polytropes).
+    core = np.flatnonzero((giant.r > 0.02 * giant.r[i]) & (np.arange(giant.size) < i - 1))
     np.testing.assert_allclose(derived[core], n2[core], rtol=1e-6)
     scale = giant.rho[i + 2 : -1] * giant.g[i + 2 : -1] ** 2 / giant.p[i + 2 : -1]
     assert np.max(np.abs(derived[i + 2 : -1]) / scale) < 1e-6

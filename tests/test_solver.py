@@ -321,3 +321,21 @@ def test_profile_without_centre_refused():
                          p=p.p, gamma1=p.gamma1, mass=p.mass, radius=p.radius)
     with pytest.raises(InputError, match="rho and p > 0"):
         radial_modes(bad, 10.0, 200.0)
+
+
+def test_dipole_g_modes_of_a_red_giant_like_model_follow_the_buoyancy_integral():
+    # Tassoul 1980 (from memory): P_n ≈ (n + ε) ΔΠ1 with ΔΠ1 = 2π²/√2 (∫N/r dr)⁻¹. In the
+    # illustrative composite model (q ~ 1e-4) the g-dominated dipole modes near numax have
+    # ζ ≈ 1, so their period spacing is ΔΠ1 itself; the p-dominated mode among them makes
+    # the one larger gap.
+    from seismo.structure import composite_polytrope, period_spacing
+
+    profile = composite_polytrope()
+    found = nonradial_modes(profile, 1, 41.0, 41.8)
+    periods = np.sort([m.period for m in found])
+    spacings = np.diff(periods)
+    dpi1 = period_spacing(profile)
+    g_like = spacings[np.abs(spacings / dpi1 - 1.0) < 0.1]
+    assert g_like.size >= 3
+    assert np.allclose(g_like, dpi1, rtol=0.01)
+    assert np.median(spacings) == pytest.approx(dpi1, rel=0.01)
