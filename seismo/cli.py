@@ -344,7 +344,9 @@ def _grid_line(grid: dict[str, Any]) -> str:
             lo, hi = m.get("err_lo"), m.get("err_hi")
             spread = "" if lo is None or hi is None else f" −{lo:.2g}/+{hi:.2g}"
             parts.append(f"{key} {m['value']:.3g}{spread}{unit}")
-    text = ", ".join(parts) if parts else "no estimate"
+    if not parts:
+        return "  grid       no estimate (" + ", ".join(grid.get("flags") or ["no models"]) + ")"
+    text = ", ".join(parts)
     n_eff = grid.get("n_eff")
     extra = "" if n_eff is None else f" ({n_eff:.0f} effective models)"
     return f"  grid       {text}{extra}"
