@@ -262,6 +262,52 @@ def test_an_unstable_core_splitting_is_withdrawn():
     assert "rot_core_unstable" in result.flags
 
 
+@pytest.mark.parametrize("seed", [121, 122])
+def test_splitting_equal_to_the_g_mode_spacing_gives_no_confident_wrong_dpi1(seed):
+    # Injection and recovery (seismo.simulate): a clump star whose core splitting equals
+    # its g-mode spacing ν_max²ΔΠ1 = 40² × 330e-6 ≈ 0.53 μHz. The m = ±1 ridges are then
+    # shifted by one whole ΔΠ1 at ν_max in stretched period (Mosser et al. 2015, from
+    # memory) and a rotating alias with half the splitting fits best; both seeds once gave
+    # ΔΠ1 = 325.9 ± 0.16 s (25 σ off) with only rot_core_unstable. Common practice: a
+    # reported value must be consistent with the truth within its error; otherwise it is
+    # withdrawn with a flag.
+    star = dataclasses.replace(PRESETS["clump"], id="T-FAST", dpi1=330.0, q=0.28,
+                               rot_core=0.53, inclination=45.0)
+    result = measure_mixed_modes(*_inputs(simulate(star, LONG, seed)))
+    if result.dpi1 is None:
+        assert "dpi1_rotation" in result.flags
+        assert result.q is None and result.rot_core is None
+    else:
+        assert abs(result.dpi1.value - 330.0) <= 3.0 * result.dpi1.error
+
+
+def test_an_unstable_splitting_withdraws_dpi1_that_needs_it():
+    # The rule behind the test above: with the splitting rejected by the split-half check,
+    # ΔΠ1 is kept only if the fit without rotation passes the score threshold and agrees.
+    from seismo.mixed.fit import _Fit, _Model
+    from seismo.mixed.stage import _holds_without_rotation
+    from seismo.mixed.types import _MIN_SCORE
+
+    params = np.array([80.0, 0.15, 0.28, 0.0, 0.3])
+
+    def check(freq):
+        # The nominal p modes of _asymptotic_modes (d01 from the relation, shift 0).
+        model = _Model(freq, 4.0, 30.0, 0.9, 0.0, float(relations.d01_from_dnu(4.0)),
+                       np.arange(3, 10), 0.008)
+        n = freq.size
+        win = _Fit(params, np.zeros(n, np.int64), 50.0, np.ones(n, bool), np.ones(n),
+                   np.ones(n), None, True)
+        inputs = {}
+        return _holds_without_rotation(model, win, 0.05, inputs), inputs
+
+    kept, inputs = check(_asymptotic_modes(dpi1=80.0, q=0.15, eps_g=0.28)[0])
+    value, _, score = inputs["dpi1_without_rotation"]
+    assert kept and value == pytest.approx(80.0, rel=1e-4) and score >= _MIN_SCORE
+    # Peaks with no period spacing of their own (they would need the splitting): withdrawn.
+    kept, inputs = check(np.sort(np.random.default_rng(4).uniform(20.0, 40.0, 60)))
+    assert not kept and inputs["dpi1_without_rotation"][2] < _MIN_SCORE
+
+
 def test_halves_agreement_rule():
     from seismo.mixed.stage import _halves_agree
 

@@ -150,6 +150,14 @@ def measure_mixed_modes(
        uniform background); rotation is kept if it improves it by more than
        12. Errors come from the Jacobian of the inliers, scaled by the
        reduced χ² when it exceeds 1.
+    5. A rotating winner is refitted on the peaks below and above ν_max
+       separately; if the two splittings disagree by more than 3σ,
+       δν_rot,core is withdrawn (``rot_core_unstable``). ΔΠ1 then stays only
+       if the fit without rotation, started from the winner, passes the same
+       score threshold and gives the same ΔΠ1 within 3σ; otherwise ΔΠ1, q and
+       ε_g rest on the rejected m-assignment and are withdrawn
+       (``dpi1_rotation``). A splitting close to the g-mode spacing ν²ΔΠ1
+       makes such aliases: the m = ±1 ridges then shift by a whole ΔΠ1.
 
     References
     ----------
@@ -290,6 +298,9 @@ def _solve(freq: np.ndarray, snr: np.ndarray, df: float, inputs: dict[str, Any]
         inputs["rot_halves"] = halves
         if halves is not None and not _halves_agree(halves, rot, err[4]):
             flags.append("rot_core_unstable")
+            if not _holds_without_rotation(model, win, err[0], inputs):
+                return PeriodSpacing(None, None, None, None, ("dpi1_rotation", *flags),
+                                     peaks, candidates, inputs)
         else:
             rot_core = Measurement.or_none(rot, err[4])
     else:
@@ -320,6 +331,27 @@ def _split_rotation(model: _Model, win: _Fit, numax: float) -> list[list[float]]
             return None
         out.append([float(fit.params[4]), float(np.sqrt(fit.cov[4, 4]))])
     return out
+
+
+def _holds_without_rotation(model: _Model, win: _Fit, dpi1_error: float,
+                            inputs: dict[str, Any]) -> bool:
+    """Whether the ΔΠ1 of a rotating fit whose splitting is unstable stands without it.
+
+    The rotating solution is refitted with no splitting (every peak m = 0). Its
+    ΔΠ1 is kept only if that fit alone passes `_MIN_SCORE` and agrees with the
+    rotating ΔΠ1 within 3 combined sigmas; otherwise the period spacing rests on
+    an m-assignment the split-half check has rejected. ``inputs`` gets
+    ``dpi1_without_rotation`` = [ΔΠ1 (s), error (s), score].
+    """
+    still = _refine(model, win.params, False)
+    if still.cov is None:
+        inputs["dpi1_without_rotation"] = [float(still.params[0]), float("nan"), still.score]
+        return False
+    still_error = float(np.sqrt(still.cov[0, 0]))
+    inputs["dpi1_without_rotation"] = [float(still.params[0]), still_error, still.score]
+    tolerance = 3.0 * float(np.hypot(still_error, dpi1_error))
+    return bool(still.score >= _MIN_SCORE
+                and abs(still.params[0] - win.params[0]) <= tolerance)
 
 
 def _halves_agree(halves: list[list[float]], rot: float, err: float) -> bool:

@@ -26,7 +26,8 @@ FLAGS: dict[str, str] = {
     "dpi1_no_periodicity": "no significant periodicity in the stretched periods",
     "dpi1_ambiguous": "ΔΠ1 candidates fit about equally well, or the best fit is poor",
     "dpi1_rotation": "the rotational multiplets cannot be disentangled from the period "
-                     "spacing",
+                     "spacing (rival solutions with and without rotation, or a ΔΠ1 that "
+                     "holds only with a splitting the split-half check rejects)",
     "rot_core_unstable": "the core splitting differs between the peaks below and above "
                          "numax: not reported",
     "rot_core_not_detected": "no significant rotational splitting of the mixed modes",
