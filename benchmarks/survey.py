@@ -8,7 +8,7 @@ LocalCluster with 2 workers. Prints stars per minute, the 2-worker scaling effic
 (time spent committing results, target < 2 % of the run), and the cost of 10^5- and
 10^6-star surveys in core-hours extrapolated from the 1-worker rate.
 
-Run:  python benchmarks/survey.py [--stars 200]
+Run:  python benchmarks/survey.py [--stars 200] [--rounds 2] [--data DIR]
 """
 
 from __future__ import annotations
@@ -53,6 +53,8 @@ def ledger_overhead(folder: Path, n: int) -> float:
 def main() -> None:
     parser = argparse.ArgumentParser(description=__doc__.split("\n")[0])
     parser.add_argument("--stars", type=int, default=200)
+    parser.add_argument("--rounds", type=int, default=2,
+                        help="interleaved rounds; each configuration keeps its best rate")
     parser.add_argument("--data", type=Path, default=None,
                         help="keep the simulated light curves in this folder and reuse them on "
                              "the next run (simulating 200 stars takes a few minutes)")
@@ -70,20 +72,28 @@ def main() -> None:
             print(f"simulated {args.stars} stars in {time.perf_counter() - t0:.0f} s")
         else:
             print(f"reusing the {args.stars} simulated stars in {data}")
-        rates = {}
-        for label, executor, workers in (("local, 1 worker", "local", 1),
-                                         ("local, 2 workers", "local", 2),
-                                         ("dask LocalCluster, 2 workers", "dask:local", 2)):
-            out = Path(tmp) / label.replace(" ", "_").replace(",", "")
-            summary = run_survey(data, out, workers=workers, executor=executor,
-                                 progress="quiet")
-            rates[label] = 60.0 * summary.n_run / summary.seconds
-            print(f"{label:32s}{rates[label]:9.1f} stars/min  ({summary.n_run} stars, "
-                  f"{summary.seconds:.1f} s, {summary.by_status})")
-            if workers == 1:
-                run_seconds = summary.seconds
-                one_worker_dir = out
+        rates: dict[str, float] = {}
+        configs = (("local, 1 worker", "local", 1), ("local, 2 workers", "local", 2),
+                   ("dask LocalCluster, 2 workers", "dask:local", 2))
+        # Rounds interleave the configurations, and each keeps its best rate, so that a
+        # burst of load from other jobs on a shared machine does not decide a ratio.
+        for round_ in range(args.rounds):
+            for label, executor, workers in configs:
+                out = Path(tmp) / f"{label.replace(' ', '_').replace(',', '')}_{round_}"
+                summary = run_survey(data, out, workers=workers, executor=executor,
+                                     progress="quiet")
+                rate = 60.0 * summary.n_run / summary.seconds
+                print(f"{label:32s}{rate:9.1f} stars/min  ({summary.n_run} stars, "
+                      f"{summary.seconds:.1f} s, {summary.by_status})")
+                if rate > rates.get(label, 0.0):
+                    rates[label] = rate
+                    if workers == 1:
+                        run_seconds = summary.seconds
+                        one_worker_dir = out
         overhead = ledger_overhead(one_worker_dir, args.stars)
+    print(f"best of {args.rounds} rounds:")
+    for label, rate in rates.items():
+        print(f"  {label:30s}{rate:9.1f} stars/min")
     one, two, dask = (rates["local, 1 worker"], rates["local, 2 workers"],
                       rates["dask LocalCluster, 2 workers"])
     print(f"2-worker scaling efficiency {two / (2 * one):.2f} of linear (target >= 0.85)")
