@@ -154,12 +154,17 @@ def _write(table: Any, path: Path) -> None:
         except ImportError:
             raise OptionError("writing a .parquet catalog needs pyarrow (pip install "
                               "pyarrow); .ecsv, .fits and .csv need nothing else") from None
-    if fmt == "fits" and "logg" in table.colnames:
-        # FITS cannot hold the function unit dex(cm/s2): write plain numbers, say so.
-        table = table.copy()
-        for col in ("logg", "logg_err"):
-            values = table[col].value if hasattr(table[col], "value") else table[col]
-            table[col] = np.asarray(values, dtype=float)
+    if fmt == "fits":
+        import astropy.units as u
+
+        # FITS cannot hold function units such as dex(cm/s2) (logg, logg_err, grid_logg…):
+        # write plain numbers and say so in the column description.
+        logs = [col for col in table.colnames
+                if isinstance(getattr(table[col], "unit", None), u.FunctionUnitBase)]
+        if logs:
+            table = table.copy()
+        for col in logs:
+            table[col] = np.asarray(table[col].value, dtype=float)
             table[col].info.description = "log10 of surface gravity in cm s-2 (dex)"
     table.write(path, format=fmt, overwrite=True)
 
