@@ -87,6 +87,9 @@ def add_structure_parsers(sub: Any) -> None:
                             "(repeatable), e.g. --column rho=density")
     model.add_argument("--reference", default="huber2011", choices=sorted(SOLAR_REFERENCES),
                        help="solar reference values of the scaling relations")
+    model.add_argument("--plot", metavar="FILE",
+                       help="write a figure (.png): the propagation diagram and, with --modes, "
+                            "the échelle of the modes with the asymptotic dipole spectrum")
 
     tracks = sub.add_parser(
         "tracks", help="draw model tracks over an observed (Δν, ΔΠ1) diagram",
@@ -249,6 +252,11 @@ def run_model(args: argparse.Namespace) -> int:
             obs = seismic_observables(profile, teff=args.teff, reference=args.reference,
                                       radial_frequencies=radial)
     flags = order_flags(mode_list) + resolution_flags(mode_list)
+    figure = None
+    if args.plot:
+        from .structure.figures import plot_model
+
+        figure = plot_model(profile, obs, mode_list if degrees else None, path=args.plot)
     if args.json:
         out = {
             "model": profile.name,
@@ -261,6 +269,7 @@ def run_model(args: argparse.Namespace) -> int:
                            "period": "s", "inertia": "M ξ_r(R)²"},
             "cowling": bool(args.cowling) if degrees else None,
             "mode_flags": flags,
+            "figure": None if figure is None else str(figure),
         }
         print(json.dumps(out, ensure_ascii=False))
     else:
@@ -274,6 +283,8 @@ def run_model(args: argparse.Namespace) -> int:
                 print(f"  note       {flag}: the node count does not order these modes "
                       "(strongly condensed core; Takata's dipole scheme is not implemented); "
                       "the frequencies stand, the orders n do not")
+        if figure is not None:
+            print(f"  figure     {figure}")
     return 0
 
 

@@ -23,7 +23,7 @@ from seismo.errors import MissingFileError, OptionError
 from seismo.structure import polytrope, seismic_observables
 from seismo.structure.builtin import builtin_model
 from seismo.structure.constants import M_SUN_G, R_SUN_CM
-from seismo.survey import load_config, run_survey
+from seismo.survey import load_config, open_ledger, run_survey, write_catalog
 
 DEMO = Path(__file__).resolve().parent.parent / "demo_lightcurves"
 
@@ -131,6 +131,35 @@ def test_tracks_demo_over_a_catalog(tmp_path, capsys):
     assert out.count("  track    ") == 3 and "(3 stars)" in out
 
 
+def test_model_plot_without_modes(tmp_path, capsys):
+    figure = tmp_path / "model.png"
+    assert main(["model", "homogeneous", "--plot", str(figure)]) == 0
+    assert f"  figure     {figure}" in capsys.readouterr().out
+    assert figure.stat().st_size > 10_000
+
+
+def test_model_plot_with_modes_and_json(tmp_path, capsys):
+    figure = tmp_path / "sub" / "modes.png"
+    argv = ["model", "polytrope:3", "--modes", "0,1", "--fmax", "700", "--plot", str(figure),
+            "--json"]
+    assert main(argv) == 0
+    out = json.loads(capsys.readouterr().out)
+    assert out["figure"] == str(figure)
+    assert figure.stat().st_size > 10_000
+
+
+def test_model_json_without_plot_has_a_null_figure(capsys):
+    assert main(["model", "polytrope:3", "--json"]) == 0
+    assert json.loads(capsys.readouterr().out)["figure"] is None
+
+
+def test_model_plot_in_the_cowling_approximation(tmp_path, capsys):
+    figure = tmp_path / "cowling.png"
+    assert main(["model", "homogeneous", "--modes", "0,1", "--fmax", "800", "--cowling",
+                 "--plot", str(figure)]) == 0
+    assert figure.stat().st_size > 10_000
+
+
 # --- grid-based estimates in the pipeline ----------------------------------------------------
 
 def test_analyze_with_the_demo_grid(capsys):
@@ -184,3 +213,9 @@ def test_survey_with_a_grid_writes_grid_columns(tmp_path):
     assert np.isfinite(by_id["HLD-0104"]["grid_mass"])
     assert str(table["grid_age"].unit) == "Gyr"
     assert not np.isfinite(by_id["HLD-0105"]["grid_mass"])  # no detection, no estimate
+    # FITS holds no function units (dex): the log g columns go as plain numbers.
+    with open_ledger(tmp_path / "out", readonly=True) as ledger:
+        fits_path, _, n_stars, _ = write_catalog(ledger, tmp_path / "catalog.fits")
+    fits = Table.read(fits_path)
+    assert n_stars == 2 and fits["grid_logg"][0] == pytest.approx(by_id["HLD-0104"]["grid_logg"])
+    assert str(fits["grid_age"].unit) == "Gyr"
