@@ -231,9 +231,14 @@ def resolution_flags(mode_list: list[Any]) -> list[str]:
             if any(not math.isfinite(m.error) for m in mode_list if m.l == l)]
 
 
+def _finite(x: float) -> float | None:
+    return float(x) if math.isfinite(x) else None
+
+
 def run_model(args: argparse.Namespace) -> int:
     """``seismo model``: print the observables (and modes) of one stellar model."""
     from .structure.observables import seismic_observables
+    from .structure.profiles import check_profile
     from .structure.solver import modes
 
     profile = _load_model(args)
@@ -252,6 +257,12 @@ def run_model(args: argparse.Namespace) -> int:
             obs = seismic_observables(profile, teff=args.teff, reference=args.reference,
                                       radial_frequencies=radial)
     flags = order_flags(mode_list) + resolution_flags(mode_list)
+    check = check_profile(profile, warn=False)
+    checks = {"mass_mismatch": _finite(check.mass_mismatch),
+              "total_mass_mismatch": _finite(check.total_mass_mismatch),
+              "hydrostatic_median": _finite(check.hydrostatic_median),
+              "hydrostatic_max": _finite(check.hydrostatic_max),
+              "warnings": list(check.warnings)}
     figure = None
     if args.plot:
         from .structure.figures import plot_model
@@ -269,11 +280,17 @@ def run_model(args: argparse.Namespace) -> int:
                            "period": "s", "inertia": "M ξ_r(R)²"},
             "cowling": bool(args.cowling) if degrees else None,
             "mode_flags": flags,
+            "profile_check": checks,
             "figure": None if figure is None else str(figure),
         }
         print(json.dumps(out, ensure_ascii=False))
     else:
         print(_model_text(profile, obs, window, mode_list, args.cowling))
+        print(f"  checks     m against ∫4πr²ρ dr {_fmt(checks['mass_mismatch'], '', 2)}, "
+              f"hydrostatic residual median {_fmt(checks['hydrostatic_median'], '', 2)} / "
+              f"max {_fmt(checks['hydrostatic_max'], '', 2)} (relative)")
+        for warning in check.warnings:
+            print(f"  warning    {warning}")
         for flag in flags:
             if flag.endswith("_no_error_estimate"):
                 print(f"  note       {flag}: the coarser mesh of the error estimate cannot "

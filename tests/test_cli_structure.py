@@ -219,3 +219,13 @@ def test_survey_with_a_grid_writes_grid_columns(tmp_path):
     fits = Table.read(fits_path)
     assert n_stars == 2 and fits["grid_logg"][0] == pytest.approx(by_id["HLD-0104"]["grid_logg"])
     assert str(fits["grid_age"].unit) == "Gyr"
+
+
+def test_model_reports_the_profile_checks(capsys):
+    # Closed form: the homogeneous sphere has m = 4/3 π r³ ρ and p = (2π/3)Gρ²(R² − r²)
+    # exactly, so both consistency checks are at round-off level (CALC).
+    assert main(["model", "homogeneous", "--json"]) == 0
+    checks = json.loads(capsys.readouterr().out)["profile_check"]
+    assert checks["mass_mismatch"] < 1e-10
+    assert checks["hydrostatic_median"] < 1e-8
+    assert checks["warnings"] == []
