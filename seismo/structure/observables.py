@@ -6,8 +6,9 @@ model's own mesh, the scaling-relation numax and Δν with the solar reference
 sets of :mod:`seismo.scaling` (so the model's own Δν correction
 f_Δν = Δν_asym / Δν_scaling is reported), the acoustic cut-off frequency, the
 l=1 propagation cavities at a chosen frequency and a weak-coupling estimate of
-q. `predicted_dipole_modes` lays the dipole mixed-mode spectrum predicted
-from the model's radial modes over an observed échelle.
+q (the integrals live in :mod:`seismo.structure.integrals`; the dipole
+spectrum predicted from the model's radial modes, to lay over an observed
+échelle, in :mod:`seismo.structure.dipole`).
 
 The stage functions read no files and print nothing. Frequencies are in μHz,
 periods in s, global quantities in solar units (log g in cgs dex).
