@@ -75,6 +75,38 @@ def two_phase_track(n_rgb=5, n_rc=50, t_rgb=1.0, t_rc=0.1) -> ModelGrid:
     })
 
 
+def _linear(mass, tau):
+    """Track quantities linear in mass at fixed phase τ, log age too (invented).
+
+    Δν follows mostly the phase and ν_max mostly the mass, so that the two are not
+    degenerate: a star's mass is then known to a few 0.01 M☉ (CALC).
+    """
+    return {"age": np.exp(1.0 - 0.5 * mass) * (1.0 + 0.1 * tau),
+            "teff": 4700.0 + 300.0 * (mass - 1.0) - 100.0 * tau,
+            "radius": 10.0 + tau + 2.0 * (mass - 1.0),
+            "dnu": 5.0 - tau + 0.5 * (mass - 1.0),
+            "numax": 40.0 - 10.0 * tau + 25.0 * (mass - 1.0),
+            "dpi1": 80.0 - 10.0 * tau + 5.0 * (mass - 1.0)}
+
+
+def linear_grid(masses, states=None, n_models=30, **options) -> ModelGrid:
+    """Tracks from `_linear` (invented): one RGB phase each (τ from 0 to 1 over its models),
+    or with ``states[i] = (first, second)`` two phases of n_models / 2 models, 1 Myr apart."""
+    parts = []
+    for i, mass in enumerate(masses):
+        phases = [("RGB", n_models)] if states is None else [(s, n_models // 2) for s in states[i]]
+        end = None
+        for label, n in phases:
+            q = _linear(mass, np.linspace(0.0, 1.0, n))
+            if end is not None:
+                q["age"] = q["age"] - q["age"][0] + end + 0.001
+            end = q["age"][-1]
+            q.update(track=np.full(n, i), mass=np.full(n, mass), feh=np.zeros(n),
+                     state=np.full(n, label))
+            parts.append(q)
+    return ModelGrid({k: np.concatenate([q[k] for q in parts]) for k in parts[0]}, **options)
+
+
 # ---------------------------------------------------------------------------
 # Weighted quantiles
 # ---------------------------------------------------------------------------
@@ -105,12 +137,15 @@ def test_weighted_quantiles_reject_bad_weights():
 # ---------------------------------------------------------------------------
 
 
-def test_coverage_of_the_16_84_band():
+@pytest.mark.parametrize("step", [0.01, 0.1])
+def test_coverage_of_the_16_84_band(step):
     # Common practice: a star drawn from the prior (time-weighted grid points) and observed
     # with Gaussian errors falls inside its 16-84 % credible band in ~68 % of draws. The
     # simulated scatter includes the models' own systematic error (MODEL_ERRORS), which the
-    # estimate adds in quadrature.
-    grid = toy_grid(np.round(np.arange(0.9, 1.9001, 0.01), 3))
+    # estimate adds in quadrature. A 0.01 M☉ grid is not interpolated in mass; a 0.1 M☉
+    # grid gets 4 tracks per step, drawn from like the others.
+    grid = toy_grid(np.round(np.arange(0.9, 1.9001, step), 3))
+    assert grid.n_interpolated_tracks == (0 if step == 0.01 else 40)
     pts = grid.points()
     prior = np.exp(pts["log_prior"] - pts["log_prior"].max())
     rng = np.random.default_rng(20240611)
@@ -160,6 +195,65 @@ def test_interpolation_along_a_sparse_track():
     # Without refinement the only sample point is the midpoint (age 0.5): far from the star.
     coarse = grid_estimate(ModelGrid(data, max_substeps=1), **star)
     assert "grid_outside" in coarse.flags
+
+
+def test_interpolated_track_equals_the_exact_track():
+    # CALC: every quantity (and log age) is linear in mass at fixed τ, so the track
+    # interpolated half way between 1.0 and 1.4 M☉ is the exact 1.2 M☉ track.
+    grid = linear_grid([1.0, 1.4], mass_substeps=2)
+    assert grid.n_tracks == 2 and grid.n_interpolated_tracks == 1
+    pts = grid.points()
+    mid = np.isclose(pts["mass"], 1.2, rtol=0, atol=1e-12)
+    assert 0 < mid.sum() < pts["mass"].size
+    assert set(np.round(pts["mass"], 9)) == {1.0, 1.2, 1.4}
+    tau = (pts["age"][mid] / math.exp(1.0 - 0.6) - 1.0) / 0.1
+    assert tau.min() >= 0.0 and tau.max() <= 1.0
+    exact = _linear(1.2, tau)
+    for name in ("teff", "radius", "dnu", "numax", "dpi1"):
+        np.testing.assert_allclose(pts[name][mid], exact[name], rtol=1e-9, err_msg=name)
+    # CALC: the evolutionary-speed prior of the 1.2 M☉ track is its own duration, and its
+    # mass width is the step 0.2 M☉ (the grid tracks at the edges get 0.1 M☉ each).
+    duration = {m: 0.1 * math.exp(1.0 - 0.5 * m) for m in (1.0, 1.2, 1.4)}
+    width = {1.0: 0.1, 1.2: 0.2, 1.4: 0.1}
+    for m in (1.0, 1.2, 1.4):
+        on = np.isclose(pts["mass"], m, rtol=0, atol=1e-12)
+        total = np.exp(pts["log_prior"][on]).sum()
+        assert total == pytest.approx(duration[m] * width[m], rel=1e-9), m
+
+
+def test_mass_between_two_tracks_is_resolved():
+    # CALC: a star on the exact 1.2 M☉ track, between grid tracks at 1.0 and 1.4 M☉
+    # (observables linear in mass): interpolation in mass (20 parts of 0.02 M☉ by default)
+    # puts the median within 0.02 M☉ of 1.2 with a band that has width.
+    grid = linear_grid([1.0, 1.4])
+    coarse = linear_grid([1.0, 1.4], mass_substeps=1)
+    assert grid.n_interpolated_tracks == 19 and coarse.n_interpolated_tracks == 0
+    for tau in (0.2, 0.5, 0.8):
+        truth = _linear(1.2, tau)
+        star = {"dnu": truth["dnu"], "dnu_err": 0.01 * truth["dnu"], "numax": truth["numax"],
+                "numax_err": 0.02 * truth["numax"], "teff": truth["teff"], "teff_err": 80.0}
+        est = grid_estimate(grid, **star)
+        lo, median, hi = est.mass
+        assert median == pytest.approx(1.2, abs=0.02), tau
+        assert lo < median - 0.01 and hi > median + 0.01, tau
+        assert "grid_outside" not in est.flags
+        # Without the interpolation the percentiles can only be the two track masses.
+        assert set(np.round(grid_estimate(coarse, **star).mass, 9)) <= {1.0, 1.4}
+
+
+def test_tracks_with_different_state_sequences_are_not_interpolated():
+    # CALC: RGB → RC at 1.0 M☉ and RGB → 2CL at 1.4 and 1.8 M☉ (a helium-ignition
+    # transition mass between 1.0 and 1.4): no common phase, no tracks between them.
+    grid = linear_grid([1.0, 1.4, 1.8], states=[("RGB", "RC"), ("RGB", "2CL"), ("RGB", "2CL")],
+                       mass_substeps=4)
+    assert grid.n_interpolated_tracks == 3
+    masses = np.round(np.unique(grid.points()["mass"]), 9)
+    np.testing.assert_array_equal(masses, [1.0, 1.4, 1.5, 1.6, 1.7, 1.8])
+    pts = grid.points()
+    between = (pts["mass"] > 1.4) & (pts["mass"] < 1.8)
+    assert set(pts["state"][between]) == {GRID_STATES.index("RGB"), GRID_STATES.index("2CL")}
+    with pytest.raises(OptionError, match="mass_substeps must be None or an integer >= 1"):
+        linear_grid([1.0, 1.4], mass_substeps=0)
 
 
 def test_dpi1_and_state_break_the_rgb_clump_degeneracy():

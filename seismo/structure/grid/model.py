@@ -1,4 +1,5 @@
-"""Model grids: the table of tracks, its validation, refinement along tracks and priors."""
+"""Model grids: the table of tracks, its validation, interpolation in mass, refinement along
+tracks and priors."""
 
 from __future__ import annotations
 
@@ -59,6 +60,13 @@ _NEGLIGIBLE = 1e-10
 _OUTSIDE_TAIL = 0.0027
 _OUTSIDE_CHI2 = stats.chi2.isf(_OUTSIDE_TAIL, np.arange(1, 6))  # by number of observables
 _LOG_G_SUN = 4.438067627  # log10(GM☉/R☉²) in cgs, IAU 2015 nominal values (CALC)
+# Default interpolation in mass: parts of at most 0.02 M☉, so that the number of tracks
+# follows the mass range covered (range / 0.02 M☉ per [Fe/H]), not the grid's own spacing;
+# at most 25 parts per grid step (0.02 M☉ up to steps of 0.5 M☉) bound the memory.
+_MASS_STEP = 0.02
+_MAX_MASS_PARTS = 25
+# Fractional ages closer than this are one node of the common phase grid.
+_SAME_PHASE = 1e-9
 
 
 def _salpeter(mass: np.ndarray) -> np.ndarray:
@@ -178,6 +186,15 @@ class ModelGrid:
         sub-step of the refinement (default 0.003).
     max_substeps : int
         Largest number of sub-steps per interval between two models.
+    mass_substeps : int or None
+        Number of equal parts each mass step between two adjacent tracks
+        is cut into: ``mass_substeps − 1`` interpolated tracks per pair of
+        tracks (1 turns the interpolation off). None (default) chooses
+        per pair min(⌈Δm / 0.02 M☉⌉, 25) for a mass step Δm, so that the
+        interpolated mass step is at most 0.02 M☉ (for grid steps up to
+        0.5 M☉; Δm / 25 beyond): the number of tracks then follows the
+        mass range covered, about range / 0.02 M☉ per [Fe/H], rather than
+        the grid's spacing.
 
     Raises
     ------
@@ -189,22 +206,53 @@ class ModelGrid:
         fewer than 2 models, its mass or [Fe/H] varies, or its age does not
         increase strictly (the first offending track is named).
     OptionError
-        If ``step_fraction`` or ``max_substeps`` is not positive.
+        If ``step_fraction`` or ``max_substeps`` is not positive, or
+        ``mass_substeps`` is not None or an integer >= 1.
 
     Notes
     -----
-    Attributes ``n_models``, ``n_tracks``, ``n_points`` (sample points after
-    refinement), ``source`` and ``hash`` (SHA-256 of the model columns, 16
-    hex digits) describe the grid. ``columns`` holds the validated model
-    columns, sorted by track and age.
+    Interpolation between tracks in mass, at fixed [Fe/H]: two tracks
+    adjacent in mass among the tracks of one [Fe/H] are matched at the same
+    evolutionary phase, and ``mass_substeps − 1`` tracks are placed between
+    them. The phase is the fractional age τ ∈ [0, 1] within each state (a
+    reduced form of equivalent evolutionary phases, EEPs; common practice,
+    e.g. Dotter 2016, ApJS 222, 8, from memory): the n-th state of one
+    track is matched with the n-th state of the other, both are resampled
+    on the union of their τ nodes (linearly in τ), and age, T_eff, radius,
+    Δν, ν_max, ΔΠ1 and log g are interpolated linearly in mass between
+    them (log age when all ages of the two tracks are > 0, since ages fall
+    steeply, roughly as a power of the mass; age otherwise). A pair is not
+    interpolated when
+    the two tracks' sequences of states differ (e.g. RGB → RC and RGB →
+    2CL across the transition mass of helium ignition: there is no common
+    phase to match), or when several tracks share a mass and [Fe/H] (other
+    parameters varied: no single neighbour). Interpolated tracks are then
+    refined along the track like the others, so their evolutionary-speed
+    prior comes from their own interpolated ages, and the grid-spacing
+    volume is the trapezoid width in mass among all tracks, grid and
+    interpolated (a mass step cut into k parts gives each track 1/k of the
+    volume). There is no interpolation in [Fe/H].
+
+    Attributes ``n_models``, ``n_tracks`` (tracks of the grid),
+    ``n_interpolated_tracks``, ``n_points`` (sample points after
+    interpolation and refinement), ``source`` and ``hash`` (SHA-256 of the
+    model columns, 16 hex digits) describe the grid. ``columns`` holds the
+    validated model columns of the grid (not the interpolated tracks),
+    sorted by track and age.
     """
 
     def __init__(self, data: Mapping[str, Any], *, source: str | None = None,
-                 step_fraction: float = 0.003, max_substeps: int = 32) -> None:
+                 step_fraction: float = 0.003, max_substeps: int = 32,
+                 mass_substeps: int | None = None) -> None:
         if not (np.isfinite(step_fraction) and step_fraction > 0):
             raise OptionError(f"step_fraction must be > 0; got {step_fraction!r}")
         if int(max_substeps) < 1:
             raise OptionError(f"max_substeps must be >= 1; got {max_substeps!r}")
+        if mass_substeps is not None and (isinstance(mass_substeps, bool)
+                                          or not isinstance(mass_substeps, (int, np.integer))
+                                          or mass_substeps < 1):
+            raise OptionError(f"mass_substeps must be None or an integer >= 1; got "
+                              f"{mass_substeps!r}")
         self.source = None if source is None else str(source)
         cols = _validate_columns(data, self.source)
         self.columns = cols
@@ -215,11 +263,12 @@ class ModelGrid:
                      "dpi1", "state_code"):
             digest.update(np.ascontiguousarray(cols[name]).tobytes())
         self.hash = digest.hexdigest()[:16]
-        self._track_mass, self._log_volume = _track_volumes(cols)
-        self._refine(float(step_fraction), int(max_substeps))
+        models = _interpolate_in_mass(cols, self.n_tracks, mass_substeps)
+        self.n_interpolated_tracks = int(models["track_index"][-1]) + 1 - self.n_tracks
+        self._track_mass, self._log_volume = _track_volumes(models)
+        self._refine(models, float(step_fraction), int(max_substeps))
 
-    def _refine(self, step_fraction: float, max_substeps: int) -> None:
-        c = self.columns
+    def _refine(self, c: dict[str, np.ndarray], step_fraction: float, max_substeps: int) -> None:
         tr = c["track_index"]
         inner = (tr[1:] == tr[:-1]) & (c["state_code"][1:] == c["state_code"][:-1])
         j = np.flatnonzero(inner)
@@ -247,7 +296,7 @@ class ModelGrid:
         # 32-bit indices: the point arrays are the grid's memory cost.
         point["track"] = tr[lo].astype(np.int32)
         point["state"] = c["state_code"][lo]
-        point["model"] = np.where(frac < 0.5, lo, hi).astype(np.int32)
+        point["model"] = c["origin"][np.where(frac < 0.5, lo, hi)].astype(np.int32)
         point["log_prior"] = np.log(duration) + self._log_volume[tr[lo]]
         # Sorted by Δν, so that the box cut of one star is a contiguous slice.
         order = np.argsort(point["dnu"], kind="stable")
@@ -263,7 +312,7 @@ class ModelGrid:
             rank[by_value] = np.arange(self.n_points, dtype=np.int32)
             self._order[name], self._rank[name] = by_value, rank
         # A grid of one mass has no mass range to be at the edge of.
-        lo, hi = float(c["mass"].min()), float(c["mass"].max())
+        lo, hi = float(self.columns["mass"].min()), float(self.columns["mass"].max())
         self._mass_edges = np.array([lo, hi] if hi > lo else [])
 
     def points(self) -> dict[str, np.ndarray]:
@@ -274,9 +323,12 @@ class ModelGrid:
         dict of str to ndarray, each shape (n_points,)
             ``age`` (Gyr), ``teff`` (K), ``radius`` (R☉), ``dnu`` and
             ``numax`` (μHz), ``dpi1`` (s), ``logg`` (dex), ``mass`` (M☉),
-            ``feh`` (dex), ``track`` (track index), ``state`` (index into
-            `GRID_STATES`), ``model`` (nearest model row of ``columns``) and
-            ``log_prior`` (log of duration × volume, flat mass prior).
+            ``feh`` (dex), ``track`` (track index: 0 to n_tracks − 1 for the
+            grid's tracks, then the interpolated ones), ``state`` (index into
+            `GRID_STATES`), ``model`` (nearest model row of ``columns``; for
+            an interpolated track, the nearest model of the nearer of its
+            two grid tracks) and ``log_prior`` (log of duration × volume,
+            flat mass prior).
         """
         return {name: value.copy() for name, value in self._points.items()}
 
@@ -356,6 +408,112 @@ def _validate_columns(data: Mapping[str, Any], source: str | None) -> dict[str, 
     if "luminosity" in data:
         cols["luminosity"] = np.asarray(data["luminosity"], dtype=np.float64).ravel()[order]
     return cols
+
+
+def _mass_pairs(cols: dict[str, np.ndarray],
+                mass_substeps: int | None) -> list[tuple[int, int, int]]:
+    """Pairs of tracks adjacent in mass at one [Fe/H] with the same state sequence, and parts."""
+    tr, state = cols["track_index"], cols["state_code"]
+    first = np.flatnonzero(np.r_[True, tr[1:] != tr[:-1]])
+    mass = cols["mass"][first]
+    feh, node_mass = np.round(cols["feh"][first], 6), np.round(mass, 6)
+    order = np.lexsort((node_mass, feh))
+    same_feh = feh[order][1:] == feh[order][:-1]
+    same_node = same_feh & (node_mass[order][1:] == node_mass[order][:-1])
+    shared = np.r_[same_node, False] | np.r_[False, same_node]
+    run = np.flatnonzero(np.r_[True, (tr[1:] != tr[:-1]) | (state[1:] != state[:-1])])
+    sequences = np.split(state[run], np.flatnonzero(np.diff(tr[run])) + 1)
+    pairs = []
+    for i in np.flatnonzero(same_feh & ~same_node & ~shared[:-1] & ~shared[1:]):
+        a, b = int(order[i]), int(order[i + 1])
+        if not np.array_equal(sequences[a], sequences[b]):
+            continue
+        if mass_substeps is None:
+            step = (mass[b] - mass[a]) / _MASS_STEP
+            parts = min(math.ceil(step * (1.0 - 1e-9)), _MAX_MASS_PARTS)
+        else:
+            parts = int(mass_substeps)
+        if parts > 1:
+            pairs.append((a, b, parts))
+    return pairs
+
+
+def _phase_nodes(age: np.ndarray, start: int, end: int, tau: np.ndarray
+                 ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Rows bracketing the fractional ages ``tau`` in rows start..end, and the upper weight."""
+    if end == start:
+        lo = np.full(tau.size, start)
+        return lo, lo, np.zeros(tau.size)
+    own = (age[start:end + 1] - age[start]) / (age[end] - age[start])
+    i = np.clip(np.searchsorted(own, tau, side="right") - 1, 0, end - start - 1)
+    w = np.clip((tau - own[i]) / (own[i + 1] - own[i]), 0.0, 1.0)
+    return start + i, start + i + 1, w
+
+
+def _interpolate_in_mass(cols: dict[str, np.ndarray], n_tracks: int,
+                         mass_substeps: int | None) -> dict[str, np.ndarray]:
+    """The grid's models followed by the tracks interpolated in mass (see `ModelGrid`, Notes).
+
+    Returns the columns used by the refinement, with ``origin``: the nearest model row of
+    the grid (a model's own row for the grid's tracks).
+    """
+    names = ("mass", "age", "feh", "teff", "radius", "dnu", "numax", "dpi1", "logg")
+    out = {name: cols[name] for name in (*names, "track_index", "state_code")}
+    out["origin"] = np.arange(cols["mass"].size)
+    pairs = _mass_pairs(cols, mass_substeps)
+    if not pairs:
+        return out
+    tr, state, age = cols["track_index"], cols["state_code"], cols["age"]
+    run = np.flatnonzero(np.r_[True, (tr[1:] != tr[:-1]) | (state[1:] != state[:-1])])
+    run_end = np.r_[run[1:], tr.size] - 1
+    runs_of = np.split(np.arange(run.size), np.flatnonzero(np.diff(tr[run])) + 1)
+    positive = np.minimum.reduceat(age, run[np.r_[True, np.diff(tr[run]) != 0]]) > 0
+    parts_a, parts_b, fraction, log_age, track = [], [], [], [], []
+    next_track = n_tracks
+    # A loop over pairs of tracks and their states; everything per model is vectorised.
+    for a, b, parts in pairs:
+        rows_a, rows_b = [], []
+        for ra, rb in zip(runs_of[a], runs_of[b], strict=True):
+            own = [(age[run[r]:run_end[r] + 1] - age[run[r]])
+                   / max(age[run_end[r]] - age[run[r]], np.finfo(float).tiny) for r in (ra, rb)]
+            tau = np.unique(np.concatenate(own))
+            tau = tau[np.r_[True, np.diff(tau) > _SAME_PHASE]]
+            rows_a.append(_phase_nodes(age, run[ra], run_end[ra], tau))
+            rows_b.append(_phase_nodes(age, run[rb], run_end[rb], tau))
+        node_a = [np.concatenate(x) for x in zip(*rows_a, strict=True)]
+        node_b = [np.concatenate(x) for x in zip(*rows_b, strict=True)]
+        n, k = node_a[0].size, parts - 1
+        parts_a.append([np.tile(x, k) for x in node_a])
+        parts_b.append([np.tile(x, k) for x in node_b])
+        f = np.repeat(np.arange(1, parts) / parts, n)
+        fraction.append(f)
+        log_age.append(np.full(f.size, positive[a] & positive[b]))
+        track.append(np.repeat(np.arange(next_track, next_track + k), n))
+        next_track += k
+    lo_a, hi_a, w_a = (np.concatenate(x) for x in zip(*parts_a, strict=True))
+    lo_b, hi_b, w_b = (np.concatenate(x) for x in zip(*parts_b, strict=True))
+    f, log_age = np.concatenate(fraction), np.concatenate(log_age)
+
+    def at(x: np.ndarray, lo: np.ndarray, hi: np.ndarray, w: np.ndarray) -> np.ndarray:
+        # Exact node values where w is 0 or 1, so that a NaN ΔΠ1 does not leak to a neighbour.
+        with np.errstate(invalid="ignore"):
+            mid = x[lo] + w * (x[hi] - x[lo])
+        return np.where(w <= 0.0, x[lo], np.where(w >= 1.0, x[hi], mid))
+
+    new: dict[str, np.ndarray] = {}
+    for name in names:
+        xa, xb = at(cols[name], lo_a, hi_a, w_a), at(cols[name], lo_b, hi_b, w_b)
+        new[name] = (1.0 - f) * xa + f * xb
+        if name == "age":
+            with np.errstate(divide="ignore", invalid="ignore"):
+                logs = np.exp((1.0 - f) * np.log(xa) + f * np.log(xb))
+            new[name] = np.where(log_age, logs, new[name])
+    new["track_index"] = np.concatenate(track)
+    new["state_code"] = state[lo_a]
+    nearer_a = f <= 0.5
+    new["origin"] = np.where(nearer_a, np.where(w_a < 0.5, lo_a, hi_a),
+                             np.where(w_b < 0.5, lo_b, hi_b))
+    return {name: np.concatenate([out[name], new[name]]) for name in out}
 
 
 def _track_volumes(cols: dict[str, np.ndarray]) -> tuple[np.ndarray, np.ndarray]:
