@@ -281,6 +281,25 @@ def test_splitting_equal_to_the_g_mode_spacing_gives_no_confident_wrong_dpi1(see
         assert abs(result.dpi1.value - 330.0) <= 3.0 * result.dpi1.error
 
 
+def test_splitting_equal_to_the_g_mode_spacing_is_measured_by_the_extended_search():
+    # Injection and recovery (seismo.simulate), the star of the test above with seed 122:
+    # splitting 0.53 μHz = ν_max²ΔΠ1, a shift of one whole ΔΠ1 of the m = ±1 ridges at
+    # ν_max, outside the ordinary rotation search (up to 0.7 cycle). The extended search
+    # (0.7–1.5 cycles, its own threshold _MIN_SCORE_EXTENDED) finds it; before, ΔΠ1 was
+    # withdrawn with dpi1_rotation. Common practice: a reported value must be consistent
+    # with the truth within its error (here 3σ, and within 0.5 %).
+    from seismo.mixed.types import _MIN_SCORE_EXTENDED
+
+    star = dataclasses.replace(PRESETS["clump"], id="T-FAST", dpi1=330.0, q=0.28,
+                               rot_core=0.53, inclination=45.0)
+    result = measure_mixed_modes(*_inputs(simulate(star, LONG, 122)))
+    assert result.inputs.get("extended_win") is True
+    assert result.inputs["extended_score"] >= _MIN_SCORE_EXTENDED
+    assert abs(result.dpi1.value - 330.0) <= 3.0 * result.dpi1.error
+    assert result.dpi1.value == pytest.approx(330.0, rel=0.005)
+    assert result.rot_core.value == pytest.approx(0.53, rel=0.05)
+
+
 def test_an_unstable_splitting_withdraws_dpi1_that_needs_it():
     # The rule behind the test above: with the splitting rejected by the split-half check,
     # ΔΠ1 is kept only if the fit without rotation passes the score threshold and agrees.
@@ -318,12 +337,16 @@ def test_halves_agreement_rule():
 def test_shuffled_peak_lists_stay_below_the_score_threshold():
     # The false-alarm calibration of _MIN_SCORE (benchmarks/mixed_accuracy.py --null):
     # the peaks of a demo star moved to random dipole-region bins carry no period
-    # spacing; the whole search must not find one that passes.
-    from seismo.mixed.stage import _shuffled_scores
-    from seismo.mixed.types import _MIN_SCORE
+    # spacing; the whole search must not find one that passes. Solutions of the extended
+    # rotation search have their own, higher threshold _MIN_SCORE_EXTENDED.
+    from seismo.mixed.stage import _shuffled_both, _shuffled_scores
+    from seismo.mixed.types import _MIN_SCORE, _MIN_SCORE_EXTENDED
 
     a = analyze(DEMO / "HLD-0104.fits")
     ps = a.prepared.spectrum
-    scores = _shuffled_scores(ps, a.detection.fit.background(ps.freq), a.result.numax.value,
-                              a.pattern, 6, rng=3)
-    assert len(scores) == 6 and max(scores) < _MIN_SCORE
+    args = (ps, a.detection.fit.background(ps.freq), a.result.numax.value, a.pattern, 6)
+    both = _shuffled_both(*args, rng=3)
+    assert len(both) == 6
+    assert max(b[0] for b in both) < _MIN_SCORE
+    assert max(b[1] for b in both) < _MIN_SCORE_EXTENDED
+    assert _shuffled_scores(*args[:4], 2, rng=3) == [b[0] for b in both[:2]]

@@ -163,12 +163,13 @@ def _robust_steps(model: _Model, p: np.ndarray, m: np.ndarray, free: np.ndarray,
     return p
 
 
-def _refine(model: _Model, start: np.ndarray, rotating: bool) -> _Fit:
-    """Robust fit of the implicit relation, azimuthal orders re-assigned."""
+def _refine(model: _Model, start: np.ndarray, rotating: bool, rounds: int = 3) -> _Fit:
+    """Robust fit of the implicit relation, azimuthal orders re-assigned
+    (up to ``rounds`` alternations of the fit and the assignment)."""
     free = np.array([True, True, True, True, rotating])
     p = np.clip(start.copy(), _LOWER, _UPPER)
     m = model.best_m(p) if rotating else np.zeros(model.freq.size, dtype=np.int64)
-    for _ in range(3):  # alternate the fit and the assignment of m
+    for _ in range(rounds):  # alternate the fit and the assignment of m
         p = _robust_steps(model, p, m, free)
         if not rotating:
             break

@@ -15,10 +15,13 @@ from .fit import (
     _Model,
     _refine,
     _refine_candidate,
+    _start,
 )
 from .search import (
     _local_maxima,
+    _resolution,
     _search,
+    _with_aliases,
 )
 from .setup import (
     _dipole_mask,
@@ -28,11 +31,15 @@ from .setup import (
 from .types import (
     _AMBIGUITY_MARGIN,
     _DPI1_RANGE,
+    _M_ROUNDS_EXTENDED,
     _MIN_INLIERS,
     _MIN_PEAKS,
     _MIN_RESOLUTIONS,
     _MIN_SCORE,
+    _MIN_SCORE_EXTENDED,
     _N_CANDIDATES,
+    _ROT_CYCLES,
+    _ROT_CYCLES_EXTENDED,
     _TYPICAL_LINEWIDTH,
     _WINDOW_SIGMAS,
     DipolePeaks,
@@ -158,6 +165,17 @@ def measure_mixed_modes(
        ε_g rest on the rejected m-assignment and are withdrawn
        (``dpi1_rotation``). A splitting close to the g-mode spacing ν²ΔΠ1
        makes such aliases: the m = ±1 ridges then shift by a whole ΔΠ1.
+    6. Extended rotation search: the same power over rotation shifts of
+       0.7–1.5 cycles of ΔΠ1 at ν_max (`_ROT_CYCLES_EXTENDED`: splittings
+       up to and past the g-mode spacing ν_max²ΔΠ1), candidates and the
+       one-cycle aliases of the best one, refined with rotation. A fit whose
+       splitting is at least 0.7 cycle replaces the ordinary winner only if it
+       reaches the
+       separate threshold `_MIN_SCORE_EXTENDED` (more hypotheses tried, so a
+       higher false-alarm level) and beats every ordinary solution by the
+       ambiguity margin; it then goes through checks 4–5 against the other
+       extended solutions. Otherwise it is ignored, so it cannot make a clear
+       ordinary winner ambiguous.
 
     References
     ----------
@@ -201,7 +219,7 @@ def _region(ps: PowerSpectrum, numax: float, pattern: Any, inputs: dict[str, Any
 
 def _shuffled_scores(ps: PowerSpectrum, background: Any, numax: float, pattern: Any,
                      n_shuffles: int, rng: np.random.Generator | int | None = None,
-                     false_alarm: float = 0.9) -> list[float]:
+                     false_alarm: float = 0.9, extended: bool = False) -> list[float]:
     """Winning mixture scores of the star's peak list moved to random dipole bins.
 
     The false-alarm calibration of `_MIN_SCORE`: the peaks of the real
@@ -210,7 +228,19 @@ def _shuffled_scores(ps: PowerSpectrum, background: Any, numax: float, pattern: 
     the masking of l = 0, 2, 3 but destroys any period spacing; the whole
     search and refinement is then run on each list. Returns one score per
     shuffle (an empty list when the real list is too short to be searched).
+    With ``extended`` it returns instead, per shuffle, the best score of the
+    solutions found only by the extended rotation search (the calibration of
+    `_MIN_SCORE_EXTENDED`; −inf when there is none); `_shuffled_both` gives
+    both from the same shuffles.
     """
+    both = _shuffled_both(ps, background, numax, pattern, n_shuffles, rng, false_alarm)
+    return [b[1] if extended else b[0] for b in both]
+
+
+def _shuffled_both(ps: PowerSpectrum, background: Any, numax: float, pattern: Any,
+                   n_shuffles: int, rng: np.random.Generator | int | None = None,
+                   false_alarm: float = 0.9) -> list[tuple[float, float]]:
+    """Per shuffle of `_shuffled_scores`: (best ordinary score, best extended score)."""
     numax, bg = _validate(ps, background, numax, pattern, false_alarm)
     rng = np.random.default_rng(rng)
     inputs: dict[str, Any] = {"numax": numax, "false_alarm": float(false_alarm)}
@@ -225,7 +255,9 @@ def _shuffled_scores(ps: PowerSpectrum, background: Any, numax: float, pattern: 
     for _ in range(n_shuffles):  # a loop over shuffles, each a full search
         fake = np.sort(rng.choice(bins, size=freq.size, replace=False))
         result = _solve(fake, rng.permutation(snr), ps.df, dict(inputs))
-        scores.append(max((c["score"] for c in result.candidates), default=-np.inf))
+        ordinary = [c["score"] for c in result.candidates if not c["extended"]]
+        extra = [c["score"] for c in result.candidates if c["extended"]]
+        scores.append((max(ordinary, default=-np.inf), max(extra, default=-np.inf)))
     return scores
 
 
@@ -260,11 +292,26 @@ def _solve(freq: np.ndarray, snr: np.ndarray, df: float, inputs: dict[str, Any]
             "rotation": float(u0 * numax**2 * grid[i] * 1e-6),
             "power": float(power[i]), "fit_dpi1": float(fit.params[0]),
             "fit_q": float(fit.params[1]), "fit_rotation": float(fit.params[4]),
-            "score": fit.score, "n_inliers": float(np.sum(fit.inlier)),
+            "score": fit.score, "n_inliers": float(np.sum(fit.inlier)), "extended": 0.0,
         })
 
     order = np.argsort([-f.score for f in fits])
     win = fits[order[0]]
+    extra = _extended_fits(model, freq, nu_p0, numax, lo, hi)
+    candidates += [_describe(fit, True) for fit in extra]
+    extra = [f for f in extra if _beyond_ordinary(f, numax)]
+    inputs["extended_score"] = max((f.score for f in extra), default=float("-inf"))
+    if extra:
+        best_extra = max(extra, key=lambda f: f.score)
+        n_extra = int(np.sum(best_extra.inlier))
+        if (best_extra.score >= _MIN_SCORE_EXTENDED and n_extra >= _MIN_INLIERS
+                and best_extra.score > win.score + _AMBIGUITY_MARGIN):
+            # The extended solution wins clearly over every ordinary one; its rivals
+            # are the other extended solutions (the ordinary ones are all far below).
+            fits, win = extra, best_extra
+            order = np.argsort([-f.score for f in fits])
+            inputs["extended_win"] = True
+    # Otherwise the extended solutions are not rivals: a clear ordinary winner stays.
     flags: list[str] = []
     rivals = [fits[j] for j in order[1:]
               if abs(fits[j].params[0] / win.params[0] - 1.0) > 0.01]
@@ -310,6 +357,43 @@ def _solve(freq: np.ndarray, snr: np.ndarray, df: float, inputs: dict[str, Any]
         eps_g=Measurement.or_none(float(np.mod(eps_g, 1.0)), err[2]), rot_core=rot_core,
         flags=tuple(flags), peaks=peaks, candidates=candidates, inputs=inputs,
     )
+
+
+def _describe(fit: _Fit, extended: bool) -> dict[str, Any]:
+    """Candidate entry of a refined fit (no search values)."""
+    return {"dpi1": float("nan"), "q": float("nan"), "rotation": float("nan"),
+            "power": float("nan"), "fit_dpi1": float(fit.params[0]),
+            "fit_q": float(fit.params[1]), "fit_rotation": float(fit.params[4]),
+            "score": fit.score, "n_inliers": float(np.sum(fit.inlier)),
+            "extended": float(extended)}
+
+
+def _beyond_ordinary(fit: _Fit, numax: float) -> bool:
+    """Whether a rotating fit's splitting is at least the upper limit of `_ROT_CYCLES`
+    (in cycles of ΔΠ1 at ν_max), i.e. outside what the ordinary search covers."""
+    cycles = fit.params[4] / (numax**2 * fit.params[0] * 1e-6)
+    return bool(fit.rotating and cycles >= _ROT_CYCLES[-1])
+
+
+def _extended_fits(model: _Model, freq: np.ndarray, nu_p: np.ndarray, numax: float,
+                   lo: float, hi: float) -> list[_Fit]:
+    """Rotating fits of the extended search (`_ROT_CYCLES_EXTENDED`).
+
+    Candidates are the best local maxima of the stretched-period power over
+    the extended rotation hypotheses, and the one-cycle aliases of the best
+    one (search._with_aliases); each is refined with rotation from its best
+    hypothesis (one refinement per candidate keeps the stage fast).
+    """
+    grid, power_all, best, hyp, _ = _search(freq, nu_p, model.dnu, numax,
+                                            _ROT_CYCLES_EXTENDED, still=False)
+    power = power_all[np.arange(grid.size), best]
+    picks = _local_maxima(power, grid, _N_CANDIDATES, 0.02)
+    if picks.size == 0:
+        return []
+    aliased = _with_aliases(picks[:1], power, grid, _resolution(grid, freq, nu_p, lo, hi))
+    picks = list(dict.fromkeys([*aliased.tolist(), *picks.tolist()]))
+    return [_refine(model, _start(model, grid[i], hyp[best[i]], numax), True,
+                    _M_ROUNDS_EXTENDED) for i in picks]  # a loop over a few candidates
 
 
 def _split_rotation(model: _Model, win: _Fit, numax: float) -> list[list[float]] | None:

@@ -51,6 +51,20 @@ _Q_GRID = np.array([0.04, 0.08, 0.12, 0.17, 0.23, 0.3, 0.4, 0.52])
 # Trial rotation shifts of the m = ±1 ridges at ν_max, in units of ΔΠ1
 # (δτ = δν_rot,core / ν², Mosser et al. 2015, from memory).
 _ROT_CYCLES = np.linspace(0.04, 0.7, 23)
+# Extended search (stage._extended_fits): shifts from the upper limit of
+# `_ROT_CYCLES` past one whole cycle, a splitting close to the g-mode spacing
+# ν_max²ΔΠ1 (fast-rotating clump stars). The shift varies as ν⁻² across the
+# window, so such m = ±1 ridges cross the m = 0 ridge at ν_max and tilt away
+# from it: not equivalent to no rotation. Its solutions must reach
+# `_MIN_SCORE_EXTENDED` (more hypotheses tried: look-elsewhere effect).
+_ROT_CYCLES_EXTENDED = np.linspace(0.7, 1.5, 27)
+# One-cycle aliases of the best extended candidate also refined: the best local
+# maximum of the power between these many resolution elements
+# (search._resolution) to either side.
+_ALIAS_RESOLUTIONS = (0.6, 1.6)
+# Alternations of the fit and the m assignment in the extended search; a
+# splitting near the g-mode spacing moves many peaks between m.
+_M_ROUNDS_EXTENDED = 6
 _N_CANDIDATES = 4
 # Mixture log-likelihood margins (natural log units) to prefer a candidate or
 # to keep rotation.
@@ -61,6 +75,18 @@ _AMBIGUITY_MARGIN = 8.0
 # 28–160. Re-measured with `benchmarks/mixed_accuracy.py --null 60 --seed 5`
 # (stage._shuffled_scores, 240 shuffles): largest 20.2, none at or above 22.
 _MIN_SCORE = 22.0
+# A solution found only by the extended search (splitting of at least 0.7
+# cycle of ΔΠ1 at ν_max) must reach this score and beat the best solution of
+# the ordinary search by `_AMBIGUITY_MARGIN`; otherwise the extended solutions
+# are ignored (they cannot make a clear ordinary winner ambiguous). Calibration
+# (`benchmarks/mixed_accuracy.py --null 120 --seed 5`, 480 shuffles of the four
+# demo stars' peak lists, stage._shuffled_both): largest extended-only score
+# 18.5, none at or above 30; `--null 120 --seed 6`: 19.9; `--null 60 --seed 5`
+# (240): 22.4. Real extended winners: MIX-031 40.0, the test star of test_mixed
+# (clump, splitting = ν_max²ΔΠ1, seed 122) 37.0. (The ordinary search in the
+# seed-6 run had one shuffle at 23.4 ≥ `_MIN_SCORE`, with or without the
+# extended search; see docs/accuracy.md.)
+_MIN_SCORE_EXTENDED = 30.0
 # Rotation is kept when it explains this many more peaks (count and fraction
 # of all peaks) without lowering the mixture score by more than the loss.
 _ROTATION_GAIN = 4
