@@ -11,7 +11,9 @@ import numpy as np
 from .lightcurve import LightCurve
 from .spectrum import PowerSpectrum
 
-__all__ = ["log_binned", "plot_lightcurve_spectrum"]
+__all__ = ["log_binned", "plot_lightcurve_spectrum", "plot_star", "plot_population",
+           "draw_state_diagram", "draw_state_regions", "draw_by_state", "table_column",
+           "agg_pyplot"]
 
 # Our own palette: slate for data, amber for smoothed curves, teal for markers.
 _DATA = "#4a5568"
@@ -20,7 +22,8 @@ _SMOOTH = "#d97706"
 _MARK = "#0f766e"
 
 
-def _pyplot() -> Any:
+def agg_pyplot() -> Any:
+    """matplotlib.pyplot on the file-only Agg backend (figures need no display)."""
     try:
         import matplotlib
 
@@ -83,7 +86,7 @@ def plot_lightcurve_spectrum(
     Path
         The file written.
     """
-    plt = _pyplot()
+    plt = agg_pyplot()
     path = Path(path)
     path.parent.mkdir(parents=True, exist_ok=True)
     fig, (ax_lc, ax_ps) = plt.subplots(2, 1, figsize=(10, 8), constrained_layout=True)
@@ -146,7 +149,7 @@ def plot_star(analysis: Any, path: str | os.PathLike[str]) -> Path:
     Path
         The file written.
     """
-    plt = _pyplot()
+    plt = agg_pyplot()
     path = Path(path)
     path.parent.mkdir(parents=True, exist_ok=True)
     lc = analysis.prepared.lightcurve
@@ -320,7 +323,7 @@ def _draw_echelle(ax: Any, ps: PowerSpectrum, fit: Any, pattern: Any, result: An
 _STATE_COLOURS = {"RGB": "#64748b", "RC": "#d97706", "2CL": "#0f766e"}
 
 
-def _draw_regions(ax: Any, filled: bool) -> None:
+def draw_state_regions(ax: Any, filled: bool) -> None:
     """The evolutionary regions of `seismo.state.STATE_REGIONS` in the (Δν, ΔΠ1) plane."""
     from matplotlib.patches import Rectangle
 
@@ -352,7 +355,7 @@ def draw_state_diagram(ax: Any, dnu: Any, dpi1: Any, state: str | None = None) -
     state : str, optional
         The star's classified state, for the legend.
     """
-    _draw_regions(ax, filled=True)
+    draw_state_regions(ax, filled=True)
     label = "this star" + (f" ({state})" if state else "")
     if dnu is not None and dpi1 is not None:
         ax.errorbar([dnu.value], [dpi1.value], xerr=[dnu.error or 0], yerr=[dpi1.error or 0],
@@ -421,8 +424,8 @@ def _density_or_points(ax: Any, x: np.ndarray, y: np.ndarray, colour: str, label
     ax.plot([], [], "s", color=colour, label=f"{label} ({x.size:,}, log density)")
 
 
-def _by_state(ax: Any, states: np.ndarray, x: np.ndarray, y: np.ndarray,
-              extent: tuple[float, float, float, float], **scales: bool) -> None:
+def draw_by_state(ax: Any, states: np.ndarray, x: np.ndarray, y: np.ndarray,
+                  extent: tuple[float, float, float, float], **scales: bool) -> None:
     """One layer of markers or density per evolutionary state (unknown in grey)."""
     for name, colour in {**_STATE_COLOURS, "unknown": "#9ca3af"}.items():
         sel = states == name
@@ -435,7 +438,8 @@ def _save(plt: Any, fig: Any, path: Path) -> Path:
     return path
 
 
-def _column(table: Any, name: str) -> np.ndarray:
+def table_column(table: Any, name: str) -> np.ndarray:
+    """Column ``name`` of a catalog table as bare floats in its own unit (NaN if absent)."""
     if name not in table.colnames:
         return np.full(len(table), np.nan)
     col = table[name]
@@ -468,18 +472,18 @@ def plot_population(table: Any, out_dir: str | os.PathLike[str]) -> list[Path]:
     """
     from .relations import STELLO_2009
 
-    plt = _pyplot()
+    plt = agg_pyplot()
     out = Path(out_dir)
     out.mkdir(parents=True, exist_ok=True)
     states = np.asarray(table["state"]).astype(str) if "state" in table.colnames else \
         np.full(len(table), "unknown")
-    numax, dnu, dpi1 = _column(table, "numax"), _column(table, "dnu"), _column(table, "dpi1")
-    mass, radius = _column(table, "mass"), _column(table, "radius")
+    numax, dnu, dpi1 = (table_column(table, name) for name in ("numax", "dnu", "dpi1"))
+    mass, radius = table_column(table, "mass"), table_column(table, "radius")
     written = []
 
     fig, ax = plt.subplots(figsize=(8, 6), constrained_layout=True)
-    _draw_regions(ax, filled=False)
-    _by_state(ax, states, dnu, dpi1, (2.0, 21.0, 0.0, 400.0))
+    draw_state_regions(ax, filled=False)
+    draw_by_state(ax, states, dnu, dpi1, (2.0, 21.0, 0.0, 400.0))
     ax.set_xlim(2.0, 21.0)
     ax.set_ylim(0.0, 400.0)
     ax.set_xlabel("Δν (μHz)")
@@ -491,7 +495,7 @@ def plot_population(table: Any, out_dir: str | os.PathLike[str]) -> list[Path]:
     written.append(_save(plt, fig, out / "population_dnu_dpi1.png"))
 
     fig, ax = plt.subplots(figsize=(8, 6), constrained_layout=True)
-    _by_state(ax, states, numax, dnu, (5.0, 300.0, 0.8, 25.0), log_x=True,
+    draw_by_state(ax, states, numax, dnu, (5.0, 300.0, 0.8, 25.0), log_x=True,
               log_y=True)
     grid = np.geomspace(5.0, 300.0, 100)
     alpha, beta = STELLO_2009
@@ -508,7 +512,7 @@ def plot_population(table: Any, out_dir: str | os.PathLike[str]) -> list[Path]:
     written.append(_save(plt, fig, out / "population_numax_dnu.png"))
 
     fig, ax = plt.subplots(figsize=(8, 6), constrained_layout=True)
-    _by_state(ax, states, mass, radius, (0.3, 4.0, 2.0, 40.0), log_y=True)
+    draw_by_state(ax, states, mass, radius, (0.3, 4.0, 2.0, 40.0), log_y=True)
     ax.set_yscale("log")
     ax.set_xlim(0.3, 4.0)
     ax.set_ylim(2.0, 40.0)

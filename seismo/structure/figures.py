@@ -110,10 +110,10 @@ def plot_tracks(
     Path
         The file written.
     """
-    from ..plots import _by_state, _column, _draw_regions, _pyplot
+    from ..plots import agg_pyplot, draw_by_state, draw_state_regions, table_column
     from ..relations import STELLO_2009, dnu_from_numax
 
-    plt = _pyplot()
+    plt = agg_pyplot()
     tracks = list(tracks)
     table = _catalog_table(catalog)
     path = Path(path)
@@ -121,15 +121,15 @@ def plot_tracks(
     fig, (ax_d, ax_n) = plt.subplots(1, 2, figsize=(14, 6.2), constrained_layout=True)
 
     # Outlined regions when a catalog is drawn (its shading would hide the density layers).
-    _draw_regions(ax_d, filled=table is None)
+    draw_state_regions(ax_d, filled=table is None)
     n_stars = 0
     if table is not None:
         n_stars = len(table)
         states = (np.asarray(table["state"]).astype(str) if "state" in table.colnames
                   else np.full(n_stars, "unknown"))
-        dnu, dpi1, numax = _column(table, "dnu"), _column(table, "dpi1"), _column(table, "numax")
-        _by_state(ax_d, states, dnu, dpi1, _DIAGRAM)
-        _by_state(ax_n, states, numax, dnu, _NUMAX_DNU, log_x=True, log_y=True)
+        dnu, dpi1, numax = (table_column(table, name) for name in ("dnu", "dpi1", "numax"))
+        draw_by_state(ax_d, states, dnu, dpi1, _DIAGRAM)
+        draw_by_state(ax_n, states, numax, dnu, _NUMAX_DNU, log_x=True, log_y=True)
     for i, track in enumerate(tracks):
         colour = _TRACK_COLOURS[i % len(_TRACK_COLOURS)]
         _draw_track(ax_d, track.dnu, track.dpi1, colour, track.label, _DIAGRAM, track.state)
@@ -356,9 +356,9 @@ def plot_model(
     so the g-mode phase of the prediction is arbitrary, while its period
     spacing (≈ ζΔΠ1) is the model's.
     """
-    from ..plots import _pyplot
+    from ..plots import agg_pyplot
 
-    plt = _pyplot()
+    plt = agg_pyplot()
     mode_list = None if modes is None else list(modes)
     path = Path(path)
     path.parent.mkdir(parents=True, exist_ok=True)
