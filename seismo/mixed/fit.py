@@ -7,11 +7,8 @@ from dataclasses import dataclass
 import numpy as np
 
 from .. import relations
-from ..relations.mixed import _p_phase  # same θp convention as the forward model
 from .stretched import (
-    _unsplit,
     _unwrapped_arctan,
-    _zeta_fast,
 )
 from .types import (
     _DPI1_RANGE,
@@ -47,6 +44,13 @@ class _Model:
         self.df = df
         self._nu_p0 = np.asarray(relations.universal_pattern(orders, 1, dnu, numax, eps,
                                                              alpha, d01))
+        # Tables of `relations.mixed._p_phase` indexed by k + 1 (k = −1 below the
+        # first nominal mode, k = last above the last one); the local spacings do
+        # not change with the d01 shift. The fit calls this thousands of times on
+        # small arrays, where every numpy call counts.
+        last = self._nu_p0.size - 1
+        self._kc = np.concatenate([[0], np.arange(last + 1)])
+        self._spacing = np.concatenate([[dnu], np.diff(self._nu_p0), [dnu]])
 
     def nu_p(self, shift: float) -> np.ndarray:
         """Nominal l=1 p modes with d01 offset by ``shift`` (units of Δν), μHz."""
@@ -61,23 +65,36 @@ class _Model:
         """
         dpi1, q, eps_g, shift, rot = p
         nu_p = self.nu_p(shift)
-        centre = _unsplit(self.freq, m, nu_p, self.dnu, dpi1, q, rot)
-        z, theta_p = _zeta_fast(centre, nu_p, self.dnu, dpi1, q)
+        centre = self.freq
+        if rot != 0 and np.any(m):
+            for _ in range(2):  # the fixed-point steps of stretched._unsplit
+                centre = self.freq - m * self._zeta(centre, nu_p, dpi1, q)[0] * rot
+        z, theta_p, spacing, sin, cos = self._zeta(centre, nu_p, dpi1, q)
         period = 1e6 / centre
         r = period / dpi1 - _unwrapped_arctan(theta_p, q) / np.pi - eps_g
         r = r - np.floor(r + 0.5)
         if not jacobian:
             return r, z, None
-        _, spacing = _p_phase(centre, nu_p, self.dnu)
-        sin2, cos2 = np.sin(theta_p) ** 2, np.cos(theta_p) ** 2
-        den = sin2 + q**2 * cos2
+        den = sin * sin + q**2 * (cos * cos)
         jac = np.empty((r.size, 5))
         jac[:, 0] = -period / dpi1**2
-        jac[:, 1] = np.sin(theta_p) * np.cos(theta_p) / den / np.pi
+        jac[:, 1] = sin * cos / den / np.pi
         jac[:, 2] = -1.0
         jac[:, 3] = -q * self.dnu / (spacing * den)
         jac[:, 4] = m * 1e6 / (centre**2 * dpi1)
         return r, z, jac
+
+    def _zeta(self, freq: np.ndarray, nu_p: np.ndarray, dpi1: float, q: float
+              ) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
+        """ζ, θp, local p spacing (μHz), sin θp and cos θp at ``freq``: the values of
+        `stretched._zeta_fast` from the tables of ``__init__``."""
+        j = np.searchsorted(nu_p, freq, side="right")
+        kc, spacing = self._kc[j], self._spacing[j]
+        theta = np.pi * (kc + (freq - nu_p[kc]) / spacing)
+        sin, cos = np.sin(theta), np.cos(theta)
+        n_g = spacing / (freq**2 * 1e-6 * dpi1)
+        z = 1.0 / (1.0 + (q / n_g) / (q**2 * (cos * cos) + sin * sin))
+        return z, theta, spacing, sin, cos
 
     def sigma(self, z: np.ndarray) -> np.ndarray:
         """Frequency uncertainty of a peak, μHz: resolution and half its linewidth."""
@@ -143,12 +160,14 @@ def _robust_steps(model: _Model, p: np.ndarray, m: np.ndarray, free: np.ndarray,
         a = j.T @ (w[:, None] * j)
         g = j.T @ (w * e)
         try:
-            step = -np.linalg.solve(a + damping * np.diag(np.diag(a) + 1e-12), g)
+            damped = a.copy()
+            damped.flat[:: a.shape[0] + 1] += damping * (a.diagonal() + 1e-12)
+            step = -np.linalg.solve(damped, g)
         except np.linalg.LinAlgError:
             break
         trial = p.copy()
         trial[free] += step
-        trial = np.clip(trial, _LOWER, _UPPER)
+        trial = np.minimum(np.maximum(trial, _LOWER), _UPPER)  # np.clip is slower here
         e_new, j_new, cost_new = state(trial)
         if cost_new < cost:
             converged = cost - cost_new < 1e-6 * max(cost, 1.0)

@@ -50,7 +50,7 @@ def _search(freq: np.ndarray, nu_p: np.ndarray, dnu: float, numax: float,
     beta = 2.0 * np.pi * u_h[None, :] * (numax / freq[:, None]) ** 2
     kernel = np.where(u_h[None, :] > 0, a_h[None, :] + 2.0 * np.cos(beta), 1.0)
     weights = (kernel * np.exp(-2j * np.pi * shift)).astype(np.complex64)
-    comb = np.exp(2j * np.pi * (period[None, :] / dpi1[:, None])).astype(np.complex64)
+    comb = _unit_phasors(period[None, :] / dpi1[:, None])
     power = np.abs(comb @ weights) ** 2 / np.sum(kernel**2, axis=0)[None, :]
     best = np.argmax(power, axis=1)
     hyp = np.column_stack([q_h, u_h, a_h])
@@ -58,6 +58,17 @@ def _search(freq: np.ndarray, nu_p: np.ndarray, dnu: float, numax: float,
     # one per 0.15 cycle of rotation (our estimate).
     n_trials = dpi1.size / 3.0 * 3.0 * (float(still) + 2.0 * np.ptp(cycles) / 0.15)
     return dpi1, power, best, hyp, float(n_trials)
+
+
+def _unit_phasors(cycles: np.ndarray) -> np.ndarray:
+    """exp(2πi x) in complex64: the fraction of each cycle in float64, then cos and sin in
+    float32 (about ten times faster than a complex128 exp, to the same complex64 result)."""
+    frac = cycles - np.floor(cycles)
+    angle = (2.0 * np.pi * frac).astype(np.float32)
+    out = np.empty(angle.shape, dtype=np.complex64)
+    out.real = np.cos(angle)
+    out.imag = np.sin(angle)
+    return out
 
 
 def _local_maxima(y: np.ndarray, x: np.ndarray, n: int, min_sep: float) -> np.ndarray:

@@ -72,13 +72,15 @@ def stretched_period(freq: Any, nu_p: Any, dnu: float, dpi1: float, q: float) ->
     return 1e6 / f - dpi1 / np.pi * _unwrapped_arctan(theta_p, q)
 
 
-def _zeta_fast(freq: np.ndarray, nu_p: np.ndarray, dnu: float, dpi1: float, q: float
-               ) -> tuple[np.ndarray, np.ndarray]:
-    """ζ (smooth form of `seismo.relations.zeta`) and θp, without checks (bare arrays)."""
-    theta_p, spacing = _p_phase(freq, nu_p, dnu)
-    n_g = spacing / (freq**2 * 1e-6 * dpi1)
+def _zeta_fast(freq: np.ndarray, nu_p: np.ndarray, dnu: float, dpi1: float, q: float,
+               spacing: bool = False) -> tuple[np.ndarray, ...]:
+    """ζ (smooth form of `seismo.relations.zeta`) and θp, without checks (bare arrays);
+    with ``spacing`` also the local p-mode spacing of `_p_phase`, μHz."""
+    theta_p, local = _p_phase(freq, nu_p, dnu)
+    n_g = local / (freq**2 * 1e-6 * dpi1)
     denom = q**2 * np.cos(theta_p) ** 2 + np.sin(theta_p) ** 2
-    return 1.0 / (1.0 + (q / n_g) / denom), theta_p
+    z = 1.0 / (1.0 + (q / n_g) / denom)
+    return (z, theta_p, local) if spacing else (z, theta_p)
 
 
 def _unsplit(freq: np.ndarray, m: np.ndarray, nu_p: np.ndarray, dnu: float, dpi1: float,

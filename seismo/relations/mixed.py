@@ -36,7 +36,7 @@ def _p_phase(freq: np.ndarray, nu_p: np.ndarray, dnu: float) -> tuple[np.ndarray
     """
     last = nu_p.size - 1
     k = np.searchsorted(nu_p, freq, side="right") - 1
-    kc = np.clip(k, 0, last)
+    kc = np.minimum(np.maximum(k, 0), last)  # np.clip is slow on small arrays
     inside = (k >= 0) & (k < last)
     upper = np.where(inside, nu_p[np.minimum(kc + 1, last)], nu_p[kc] + dnu)
     spacing = np.where(inside, upper - nu_p[kc], dnu)
