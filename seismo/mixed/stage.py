@@ -17,6 +17,7 @@ from .fit import (
     _refine_candidate,
     _start,
 )
+from .scan import _scan_fits
 from .search import (
     _local_maxima,
     _resolution,
@@ -37,6 +38,7 @@ from .types import (
     _MIN_RESOLUTIONS,
     _MIN_SCORE,
     _MIN_SCORE_EXTENDED,
+    _MIN_SCORE_SCAN,
     _N_CANDIDATES,
     _ROT_CYCLES,
     _ROT_CYCLES_EXTENDED,
@@ -176,6 +178,16 @@ def measure_mixed_modes(
        ambiguity margin; it then goes through checks 4–5 against the other
        extended solutions. Otherwise it is ignored, so it cannot make a clear
        ordinary winner ambiguous.
+    7. Grid scan (`seismo.mixed.scan`), only when steps 3–6 give no ΔΠ1: the
+       mixture score of step 4, with each peak's azimuthal order chosen freely,
+       over a grid of ΔΠ1 (two points per resolution element), q, rotation
+       shifts of 0–1.2 cycles and eight ε_g; the best distinct grid solutions
+       are refined. The triplet kernel of step 3 fades when the splitting is
+       half to one g-mode spacing, and the true ΔΠ1 then is not among the
+       power candidates at all. A scan solution is reported only if it reaches
+       `_MIN_SCORE_SCAN` (more hypotheses: higher false-alarm threshold) and
+       beats every other solution by the ambiguity margin; then checks 4–5.
+       It costs about 0.1–0.8 s per star, paid only by stars that need it.
 
     References
     ----------
@@ -239,8 +251,9 @@ def _shuffled_scores(ps: PowerSpectrum, background: Any, numax: float, pattern: 
 
 def _shuffled_both(ps: PowerSpectrum, background: Any, numax: float, pattern: Any,
                    n_shuffles: int, rng: np.random.Generator | int | None = None,
-                   false_alarm: float = 0.9) -> list[tuple[float, float]]:
-    """Per shuffle of `_shuffled_scores`: (best ordinary score, best extended score)."""
+                   false_alarm: float = 0.9) -> list[tuple[float, float, float]]:
+    """Per shuffle of `_shuffled_scores`: (best ordinary score, best extended score,
+    best score of the grid scan, −inf when the scan did not run)."""
     numax, bg = _validate(ps, background, numax, pattern, false_alarm)
     rng = np.random.default_rng(rng)
     inputs: dict[str, Any] = {"numax": numax, "false_alarm": float(false_alarm)}
@@ -255,9 +268,11 @@ def _shuffled_both(ps: PowerSpectrum, background: Any, numax: float, pattern: An
     for _ in range(n_shuffles):  # a loop over shuffles, each a full search
         fake = np.sort(rng.choice(bins, size=freq.size, replace=False))
         result = _solve(fake, rng.permutation(snr), ps.df, dict(inputs))
-        ordinary = [c["score"] for c in result.candidates if not c["extended"]]
+        ordinary = [c["score"] for c in result.candidates
+                    if not c["extended"] and not c["scan"]]
         extra = [c["score"] for c in result.candidates if c["extended"]]
-        scores.append((max(ordinary, default=-np.inf), max(extra, default=-np.inf)))
+        scores.append((max(ordinary, default=-np.inf), max(extra, default=-np.inf),
+                       result.inputs.get("scan_score", -np.inf)))
     return scores
 
 
@@ -293,6 +308,7 @@ def _solve(freq: np.ndarray, snr: np.ndarray, df: float, inputs: dict[str, Any]
             "power": float(power[i]), "fit_dpi1": float(fit.params[0]),
             "fit_q": float(fit.params[1]), "fit_rotation": float(fit.params[4]),
             "score": fit.score, "n_inliers": float(np.sum(fit.inlier)), "extended": 0.0,
+            "scan": 0.0,
         })
 
     order = np.argsort([-f.score for f in fits])
@@ -309,20 +325,25 @@ def _solve(freq: np.ndarray, snr: np.ndarray, df: float, inputs: dict[str, Any]
             # The extended solution wins clearly over every ordinary one; its rivals
             # are the other extended solutions (the ordinary ones are all far below).
             fits, win = extra, best_extra
-            order = np.argsort([-f.score for f in fits])
             inputs["extended_win"] = True
     # Otherwise the extended solutions are not rivals: a clear ordinary winner stays.
-    flags: list[str] = []
-    rivals = [fits[j] for j in order[1:]
-              if abs(fits[j].params[0] / win.params[0] - 1.0) > 0.01]
-    if rivals and rivals[0].score > win.score - _AMBIGUITY_MARGIN:
-        flags.append("dpi1_rotation" if win.rotating or rivals[0].rotating
-                     else "dpi1_ambiguous")
+    flags = _winner_flags(win, fits, _MIN_SCORE)
+    inputs["scan_score"] = float("-inf")
+    if flags:
+        # No ΔΠ1 from the stretched-period power: the grid scan of the mixture score
+        # (scan.py) looks for the solution that power cannot rank, e.g. splittings of
+        # half to one g-mode spacing. It must pass its own threshold and beat every
+        # solution found so far by the ambiguity margin.
+        scanned = _scan_fits(model, numax)
+        candidates += [_describe(fit, False, scan=True) for fit in scanned]
+        best_scan = max(scanned, key=lambda f: f.score)
+        inputs["scan_score"] = float(best_scan.score)
+        everything = [*fits, *extra, *scanned]
+        if (best_scan.score >= _MIN_SCORE_SCAN
+                and not _winner_flags(best_scan, everything, _MIN_SCORE_SCAN)):
+            win, fits, flags = best_scan, everything, []
+            inputs["scan_win"] = True
     n_in = int(np.sum(win.inlier))
-    if n_in < _MIN_INLIERS or win.score < _MIN_SCORE:
-        flags.append("dpi1_no_periodicity")
-    elif n_in < 0.3 * freq.size or win.cov is None:
-        flags.append("dpi1_ambiguous")
 
     nu_p = model.nu_p(win.params[3])
     resid = _model_residuals(freq, win, nu_p, dnu, lo, hi)
@@ -359,13 +380,37 @@ def _solve(freq: np.ndarray, snr: np.ndarray, df: float, inputs: dict[str, Any]
     )
 
 
-def _describe(fit: _Fit, extended: bool) -> dict[str, Any]:
+def _describe(fit: _Fit, extended: bool, scan: bool = False) -> dict[str, Any]:
     """Candidate entry of a refined fit (no search values)."""
     return {"dpi1": float("nan"), "q": float("nan"), "rotation": float("nan"),
             "power": float("nan"), "fit_dpi1": float(fit.params[0]),
             "fit_q": float(fit.params[1]), "fit_rotation": float(fit.params[4]),
             "score": fit.score, "n_inliers": float(np.sum(fit.inlier)),
-            "extended": float(extended)}
+            "extended": float(extended), "scan": float(scan)}
+
+
+def _winner_flags(win: _Fit, fits: list[_Fit], min_score: float) -> list[str]:
+    """Reasons why ``win`` cannot be reported as ΔΠ1 (empty when it can).
+
+    A rival more than 1 % away in ΔΠ1 within `_AMBIGUITY_MARGIN` of its score
+    (``dpi1_rotation`` when either is rotating, else ``dpi1_ambiguous``); a score
+    below ``min_score`` or fewer than `_MIN_INLIERS` inliers
+    (``dpi1_no_periodicity``); inliers below 30 % of the peaks or no covariance
+    (``dpi1_ambiguous``).
+    """
+    flags: list[str] = []
+    rivals = sorted((f for f in fits if f is not win
+                     and abs(f.params[0] / win.params[0] - 1.0) > 0.01),
+                    key=lambda f: -f.score)
+    if rivals and rivals[0].score > win.score - _AMBIGUITY_MARGIN:
+        flags.append("dpi1_rotation" if win.rotating or rivals[0].rotating
+                     else "dpi1_ambiguous")
+    n_in = int(np.sum(win.inlier))
+    if n_in < _MIN_INLIERS or win.score < min_score:
+        flags.append("dpi1_no_periodicity")
+    elif n_in < 0.3 * win.inlier.size or win.cov is None:
+        flags.append("dpi1_ambiguous")
+    return flags
 
 
 def _beyond_ordinary(fit: _Fit, numax: float) -> bool:
