@@ -32,10 +32,17 @@ __all__ = []
 _SCAN_Q = np.array([0.08, 0.2, 0.35])
 _SCAN_CYCLES = np.linspace(0.0, 1.2, 9)
 _SCAN_EPS = np.arange(8) / 8.0
-# Grid points per ΔΠ1 resolution element (search._resolution) and the number
-# of best distinct grid solutions refined.
+# Grid points per ΔΠ1 resolution element (search._resolution), the number of
+# best grid solutions refined and their smallest separation (resolution
+# elements: one-cycle aliases are about one element apart).
 _SCAN_OVERSAMPLE = 2.0
-_SCAN_TOP = 4
+_SCAN_TOP = 6
+_SCAN_SEPARATION = 0.6
+# Smallest peak uncertainty in the grid score, cycles of the local mode
+# spacing: a grid point is up to 1/16 cycle off in ε_g and about as much in
+# the drift of ΔΠ1 across the peaks, so tighter (g-dominated, resolved to
+# the frequency bin) peaks would score the grid's misalignment, not the fit.
+_SCAN_TOLERANCE = 0.1
 # ΔΠ1 values per vectorised block (bounds the memory of the trial arrays).
 _SCAN_BLOCK = 24
 
@@ -56,9 +63,14 @@ def _scan_grid(model: _Model) -> np.ndarray:
 
 def _block_scores(model: _Model, dpi1: np.ndarray, numax: float
                   ) -> tuple[np.ndarray, np.ndarray]:
-    """Best mixture score and its (q, cycles, ε_g) at each ΔΠ1 of a block.
+    """Best mixture score and its (q, cycles, ε_g) at each ΔΠ1 of a block, for two
+    peak widths: each peak's own σ, and σ no tighter than `_SCAN_TOLERANCE`.
 
-    Returns the scores, shape (n_dpi1,), and the parameters, shape (n_dpi1, 3).
+    The tight score finds solutions whose peaks are few or broad and whose
+    rotation must be resolved; the loose one those with many sharp
+    g-dominated peaks, which the grid cannot align to within their own σ.
+    Returns the scores, shape (2, n_dpi1), and the parameters, shape
+    (2, n_dpi1, 3).
     """
     f = model.freq[None, None, None, :]                       # (1, 1, 1, k)
     d = dpi1[:, None, None, None]                             # (D, 1, 1, 1)
@@ -76,15 +88,16 @@ def _block_scores(model: _Model, dpi1: np.ndarray, numax: float
         z, theta, *_ = model._zeta(centre, nu_p, d, q)
         phase = 1e6 / centre / d - _unwrapped_arctan(theta, q) / np.pi
         phase -= np.floor(phase)  # the fraction of a cycle is all the score needs
-        spacing = d * z * f**2 * 1e-6
-        kappa = spacing / np.hypot(model.df, 0.5 * _TYPICAL_LINEWIDTH * (1.0 - z))
+        # 1/σ in cycles of the local mode spacing ζ ν² ΔΠ1.
+        kappa = d * z * f**2 * 1e-6 / np.hypot(model.df, 0.5 * _TYPICAL_LINEWIDTH * (1.0 - z))
         phases.append(np.broadcast_to(phase, shape).astype(np.float32))
         kappas.append(np.broadcast_to(kappa, shape).astype(np.float32))
     still = _SCAN_CYCLES == 0.0
     norm = np.float32(1.0 / np.sqrt(2.0 * np.pi))
+    loose = np.float32(1.0 / _SCAN_TOLERANCE)
 
-    best = np.full(dpi1.size, -np.inf)
-    params = np.zeros((dpi1.size, 3))
+    best = np.full((2, dpi1.size), -np.inf)
+    params = np.zeros((2, dpi1.size, 3))
     for eps in _SCAN_EPS.astype(np.float32):  # a loop over eight trial phases
         r = []
         for ph in phases:  # three orders; residual in cycles, in [0, ½]
@@ -101,53 +114,76 @@ def _block_scores(model: _Model, dpi1: np.ndarray, numax: float
         rm = np.where(high, r[2], rm)
         km = np.where(high, kappas[2], km)
         m[high] = 2
-        x = rm * km                                           # |residual| / σ
-        inlier = x < 3.0
-        counts = np.stack([np.sum(inlier & (m == j), axis=-1) for j in range(3)], -1)
-        frac = ((counts + 1.0) / (counts.sum(-1, keepdims=True) + 3.0)).astype(np.float32)
-        w = np.take_along_axis(frac, m.astype(np.intp), -1)
-        w[:, :, still, :] = 1.0
-        a = km * w * np.exp(np.float32(-0.5) * x * x) * norm
-        ll = np.sum(np.log(np.float32(0.5) + np.float32(0.5) * np.minimum(a, np.float32(1e6))),
-                    axis=-1, dtype=np.float64)                 # (D, Q, U)
-        flat = ll.reshape(dpi1.size, -1)
-        j = np.argmax(flat, axis=1)
-        top = flat[np.arange(dpi1.size), j]
-        better = top > best
-        qi, ui = np.unravel_index(j, ll.shape[1:])
-        best = np.where(better, top, best)
-        params[better] = np.column_stack([_SCAN_Q[qi], _SCAN_CYCLES[ui],
-                                          np.full(dpi1.size, float(eps))])[better]
+        for k, kk in enumerate((km, np.minimum(km, loose))):  # the two widths
+            x = rm * kk                                       # |residual| / σ
+            inlier = x < 3.0
+            counts = np.stack([np.sum(inlier & (m == j), axis=-1) for j in range(3)], -1)
+            frac = ((counts + 1.0) / (counts.sum(-1, keepdims=True) + 3.0)).astype(np.float32)
+            w = np.take_along_axis(frac, m.astype(np.intp), -1)
+            w[:, :, still, :] = 1.0
+            a = kk * w * np.exp(np.float32(-0.5) * x * x) * norm
+            ll = np.sum(np.log(np.float32(0.5) + np.float32(0.5) * np.minimum(a, 1e6)),
+                        axis=-1, dtype=np.float64)             # (D, Q, U)
+            flat = ll.reshape(dpi1.size, -1)
+            j = np.argmax(flat, axis=1)
+            top = flat[np.arange(dpi1.size), j]
+            better = top > best[k]
+            qi, ui = np.unravel_index(j, ll.shape[1:])
+            best[k] = np.where(better, top, best[k])
+            params[k][better] = np.column_stack([_SCAN_Q[qi], _SCAN_CYCLES[ui],
+                                                 np.full(dpi1.size, float(eps))])[better]
     return best, params
 
 
 def _scan_fits(model: _Model, numax: float) -> list[_Fit]:
     """Refined fits of the best distinct solutions of the grid scan.
 
-    The grid is `_scan_grid` × `_SCAN_Q` × `_SCAN_CYCLES` × `_SCAN_EPS`; the
-    `_SCAN_TOP` best grid solutions at least 2 % apart in ΔΠ1 are refined
-    (with rotation when their cycles are non-zero).
+    The grid is `_scan_grid` × `_SCAN_Q` × `_SCAN_CYCLES` × `_SCAN_EPS`; for
+    each of the two grid scores of `_block_scores`, the `_SCAN_TOP` best grid
+    solutions at least `_SCAN_SEPARATION` resolution elements apart in ΔΠ1 are
+    refined (with rotation when their cycles are non-zero).
     """
     grid = _scan_grid(model)
-    scores = np.empty(grid.size)
-    params = np.empty((grid.size, 3))
+    scores = np.empty((2, grid.size))
+    params = np.empty((2, grid.size, 3))
     for start in range(0, grid.size, _SCAN_BLOCK):  # a loop over blocks of the grid
         block = slice(start, start + _SCAN_BLOCK)
-        scores[block], params[block] = _block_scores(model, grid[block], numax)
-    picks: list[int] = []
-    for i in np.argsort(-scores):  # a loop until a few distinct solutions are found
-        if all(abs(np.log(grid[i] / grid[j])) > 0.02 for j in picks):
-            picks.append(int(i))
-        if len(picks) == _SCAN_TOP:
-            break
+        scores[:, block], params[:, block] = _block_scores(model, grid[block], numax)
+    period = 1e6 / model.freq
+    element = grid / (float(period.max() - period.min()) + model.orders.size * grid)
+    starts: list[tuple[float, np.ndarray, int]] = []
+    for k in range(2):  # the two widths
+        picks: list[int] = []
+        for i in np.argsort(-scores[k]):  # a loop until a few distinct solutions
+            if all(abs(np.log(grid[i] / grid[j])) > _SCAN_SEPARATION * element[i]
+                   for j in picks):
+                picks.append(int(i))
+            if len(picks) == _SCAN_TOP:
+                break
+        starts += [(float(grid[i]), params[k, i], rank) for rank, i in enumerate(picks)]
     fits = []
-    for rank, i in enumerate(picks):  # a loop over a few refinements
-        q, cycles, eps = params[i]
-        rot = cycles * numax**2 * grid[i] * 1e-6
+    for dpi1, (q, cycles, eps), rank in starts:  # a loop over a few refinements
+        rot = cycles * numax**2 * dpi1 * 1e-6
         # The grid's coarse rotation steps can land on a splitting half or twice
         # the true one; the best two solutions are also refined from those.
         factors = (1.0, 0.5, 2.0) if cycles > 0 and rank < 2 else (1.0,)
-        trials = [_refine(model, np.array([grid[i], q, eps, 0.0, k * rot]), bool(cycles > 0),
+        trials = [_refine(model, np.array([dpi1, q, eps, 0.0, k * rot]), bool(cycles > 0),
                           _M_ROUNDS_EXTENDED) for k in factors]
         fits.append(max(trials, key=lambda f: f.score))
+    # One-cycle aliases of the best refined solution (the grid may favour the wrong
+    # one of a pair): a fine local scan, ±1.5 resolution elements in ΔΠ1 by
+    # quarters × 16 phases ε_g (the refinement's basin in ε_g is about ±0.1), and
+    # the best start on each side refined.
+    best = max(fits, key=lambda f: f.score)
+    d0, q0, _, shift0, rot0 = best.params
+    step = d0 / (float(period.max() - period.min()) + model.orders.size * d0)
+    for side in (-1.0, 1.0):  # two sides
+        trials = [np.array([d0 * np.exp(side * j * step / 4.0), q0, e, shift0, rot0])
+                  for j in range(2, 7) for e in np.arange(16) / 16.0]
+        scores = []
+        for t in trials:  # a loop over 80 cheap evaluations
+            m = model.best_m(t) if best.rotating else np.zeros(model.freq.size, np.int64)
+            scores.append(model.score(t, m, best.rotating)[0])
+        fits.append(_refine(model, trials[int(np.argmax(scores))], best.rotating,
+                            _M_ROUNDS_EXTENDED))
     return fits
