@@ -180,10 +180,10 @@ def _scan_fits(model: _Model, numax: float) -> list[_Fit]:
     for side in (-1.0, 1.0):  # two sides
         trials = [np.array([d0 * np.exp(side * j * step / 4.0), q0, e, shift0, rot0])
                   for j in range(2, 7) for e in np.arange(16) / 16.0]
-        scores = []
+        quick = []
         for t in trials:  # a loop over 80 cheap evaluations
             m = model.best_m(t) if best.rotating else np.zeros(model.freq.size, np.int64)
-            scores.append(model.score(t, m, best.rotating)[0])
-        fits.append(_refine(model, trials[int(np.argmax(scores))], best.rotating,
+            quick.append(model.score(t, m, best.rotating)[0])
+        fits.append(_refine(model, trials[int(np.argmax(quick))], best.rotating,
                             _M_ROUNDS_EXTENDED))
     return fits
