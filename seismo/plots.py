@@ -373,28 +373,40 @@ def draw_state_diagram(ax: Any, dnu: Any, dpi1: Any, state: str | None = None) -
 
 
 def _draw_period_echelle(ax: Any, mixed: Any) -> None:
-    """Stretched period modulo ΔΠ1 against frequency, peaks and fitted modes."""
+    """Stretched period modulo ΔΠ1 against frequency, peaks and fitted modes.
+
+    Without a measured core rotation every peak is on one ridge. With one, the
+    observed components are shown, so the m = −1, 0, +1 ridges of the fit appear
+    side by side, each tilting as δν_rot/ν².
+    """
     data = mixed.echelle()
     dpi1 = mixed.dpi1.value
-    # Shift so that the g-mode ridge (at ε_g ΔΠ1) sits in the middle of the panel.
+    rotating = mixed.rot_core is not None
+    suffix = "_observed" if rotating else ""
+    # Shift so that the m = 0 ridge (at ε_g ΔΠ1) sits in the middle of the panel.
     shift = 0.5 * dpi1 - (mixed.eps_g.value * dpi1 if mixed.eps_g is not None else 0.0)
-    for key in ("model_x", "peak_x"):
-        data[key] = np.mod(data[key] + shift, dpi1)
+    model_x = np.mod(data["model_x" + suffix] + shift, dpi1)
+    peak_x = np.mod(data["peak_x" + suffix] + shift, dpi1)
     colours = {-1: "#2563eb", 0: "#111827", 1: "#dc2626"}
     for m, colour in colours.items():
+        order = (f" m={m:+d}" if m else " m=0") if rotating else ""
         sel = data["model_m"] == m
         if sel.any():
-            ax.plot(data["model_x"][sel], data["model_freq"][sel], "_", color=colour, ms=9,
-                    alpha=0.5, label=f"fitted modes m={m:+d}" if m else "fitted modes m=0")
+            ax.plot(model_x[sel], data["model_freq"][sel], ".", color=colour, ms=2.5,
+                    alpha=0.45, label="fitted ridge" + order)
         sel = data["peak_m"] == m
         if sel.any():
-            ax.plot(data["peak_x"][sel], data["peak_freq"][sel], "o", mfc="none", mec=colour,
-                    ms=5, label=f"peaks m={m:+d}" if m else "peaks m=0")
+            ax.plot(peak_x[sel], data["peak_freq"][sel], "o", mfc="none", mec=colour,
+                    ms=5, label="peaks" + order)
     ax.set_xlim(0, dpi1)
-    ax.set_xlabel(f"Stretched period modulo ΔΠ1 = {dpi1:.4g} s, ridge centred (s)")
+    frame = "observed components" if rotating else "m = 0 ridge centred"
+    ax.set_xlabel(f"Stretched period modulo ΔΠ1 = {dpi1:.4g} s ({frame}) (s)")
     ax.set_ylabel("Frequency (μHz)")
     q = mixed.q.value if mixed.q is not None else float("nan")
-    ax.set_title(f"Period échelle of the dipole modes (q = {q:.3g})", fontsize=10)
+    title = f"Period échelle of the dipole modes (q = {q:.3g}"
+    if rotating:
+        title += f", δν_rot,core = {mixed.rot_core.value:.3g} μHz"
+    ax.set_title(title + ")", fontsize=10)
     ax.legend(loc="upper right", fontsize=7, frameon=True, ncol=2)
 
 

@@ -109,6 +109,25 @@ def test_peaks_are_dipole_modes(measured):
     assert np.sum(result.peaks.inlier) >= 0.8 * len(result.peaks)
 
 
+def test_observed_echelle_ridges_shift_by_the_splitting(measured):
+    # In the observed frame the m = ±1 components of a mode sit at stretched periods
+    # shifted from the m = 0 ridge by about ∓ζ δν_rot/ν² (dτ = dP/ζ and dP = −dν/ν²;
+    # the ζ cancels): Mosser et al. 2015 (from memory), the first-order splitting
+    # ζ δν_rot,core of Goupil et al. 2013.
+    result, truth, _ = measured["rgb_rotating"]
+    assert result.rot_core is not None
+    ech = result.echelle()
+    freq, m = ech["model_freq"], ech["model_m"]
+    shift = ech["model_x_observed"] - ech["model_x"]
+    dpi1 = result.dpi1.value
+    shift = (shift + 0.5 * dpi1) % dpi1 - 0.5 * dpi1
+    expected = -m * result.rot_core.value / freq**2 * 1e6
+    small = np.abs(expected) < 0.3 * dpi1  # away from wrapping
+    assert np.allclose(shift[m == 0], 0.0, atol=1e-6)
+    assert small.sum() > 10
+    assert np.allclose(shift[small], expected[small], rtol=0.1, atol=0.02 * dpi1)
+
+
 def test_echelle_and_dict(measured):
     result, truth, _ = measured["rgb_still"]
     ech = result.echelle()

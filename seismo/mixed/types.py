@@ -219,7 +219,10 @@ class PeriodSpacing:
             for the fitted components, shape (n_modes,). τ is computed at
             the frequency corrected for rotation (ν − m ζ δν_rot), so all
             azimuthal orders of a mode fall on one vertical ridge at
-            x ≈ ε_g ΔΠ1.
+            x ≈ ε_g ΔΠ1. ``peak_x_observed`` and ``model_x_observed`` are τ
+            mod ΔΠ1 at the observed component frequencies instead: with
+            rotation the m = ±1 components then form their own ridges, shifted
+            by about ±δν_rot/ν² and tilting with frequency.
         """
         if self.dpi1 is None or self.q is None:
             return None
@@ -227,10 +230,10 @@ class PeriodSpacing:
         dnu, dpi1, q = self.inputs["dnu"], self.dpi1.value, self.q.value
         rot = 0.0 if self.rot_core is None else self.rot_core.value
 
-        def coords(freq: np.ndarray, m: np.ndarray) -> np.ndarray:
+        def coords(freq: np.ndarray, m: np.ndarray, derotate: bool = True) -> np.ndarray:
             if freq.size == 0:
                 return np.empty(0)
-            centre = _unsplit(freq, m, nu_p, dnu, dpi1, q, rot)
+            centre = _unsplit(freq, m, nu_p, dnu, dpi1, q, rot) if derotate else freq
             return np.mod(stretched_period(centre, nu_p, dnu, dpi1, q), dpi1)
 
         model_freq, model_m = self.model_frequencies()
@@ -241,6 +244,8 @@ class PeriodSpacing:
             "model_x": coords(model_freq, model_m),
             "model_freq": model_freq,
             "model_m": model_m,
+            "peak_x_observed": coords(self.peaks.frequency, self.peaks.m, False),
+            "model_x_observed": coords(model_freq, model_m, False),
         }
 
     def as_dict(self) -> dict[str, Any]:
