@@ -300,6 +300,16 @@ def test_splitting_equal_to_the_g_mode_spacing_gives_no_confident_wrong_dpi1(see
         assert abs(result.dpi1.value - 330.0) <= 3.0 * result.dpi1.error
 
 
+def _assert_found_by(result, search: str, threshold: float, dpi1: float, rot: float) -> None:
+    """ΔΠ1 and the splitting recovered by the named search (inputs ``<search>_win`` and
+    ``<search>_score``): within 3σ and 0.5 % of the truth, splitting within 5 %."""
+    assert result.inputs.get(f"{search}_win") is True
+    assert result.inputs[f"{search}_score"] >= threshold
+    assert abs(result.dpi1.value - dpi1) <= 3.0 * result.dpi1.error
+    assert result.dpi1.value == pytest.approx(dpi1, rel=0.005)
+    assert result.rot_core.value == pytest.approx(rot, rel=0.05)
+
+
 def test_splitting_equal_to_the_g_mode_spacing_is_measured_by_the_extended_search():
     # Injection and recovery (seismo.simulate), the star of the test above with seed 122:
     # splitting 0.53 μHz = ν_max²ΔΠ1, a shift of one whole ΔΠ1 of the m = ±1 ridges at
@@ -312,11 +322,7 @@ def test_splitting_equal_to_the_g_mode_spacing_is_measured_by_the_extended_searc
     star = dataclasses.replace(PRESETS["clump"], id="T-FAST", dpi1=330.0, q=0.28,
                                rot_core=0.53, inclination=45.0)
     result = measure_mixed_modes(*_inputs(simulate(star, LONG, 122)))
-    assert result.inputs.get("extended_win") is True
-    assert result.inputs["extended_score"] >= _MIN_SCORE_EXTENDED
-    assert abs(result.dpi1.value - 330.0) <= 3.0 * result.dpi1.error
-    assert result.dpi1.value == pytest.approx(330.0, rel=0.005)
-    assert result.rot_core.value == pytest.approx(0.53, rel=0.05)
+    _assert_found_by(result, "extended", _MIN_SCORE_EXTENDED, 330.0, 0.53)
 
 
 def test_splitting_of_most_of_a_g_mode_spacing_is_measured_by_the_grid_scan():
@@ -338,11 +344,7 @@ def test_splitting_of_most_of_a_g_mode_spacing_is_measured_by_the_grid_scan():
         inclination=62.00771998707207, teff=4864.653788396714, amplitude=93.16553621921196,
         white_noise=37.28581312381867)
     result = measure_mixed_modes(*_inputs(simulate(star, LONG, 294547688)))
-    assert result.inputs.get("scan_win") is True
-    assert result.inputs["scan_score"] >= _MIN_SCORE_SCAN
-    assert abs(result.dpi1.value - 242.02) <= 3.0 * result.dpi1.error
-    assert result.dpi1.value == pytest.approx(242.02, rel=0.005)
-    assert result.rot_core.value == pytest.approx(0.1805, rel=0.05)
+    _assert_found_by(result, "scan", _MIN_SCORE_SCAN, 242.02, 0.1805)
 
 
 def test_an_unstable_splitting_withdraws_dpi1_that_needs_it():
