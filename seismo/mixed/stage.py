@@ -187,7 +187,7 @@ def measure_mixed_modes(
        power candidates at all. A scan solution is reported only if it reaches
        `_MIN_SCORE_SCAN` (more hypotheses: higher false-alarm threshold) and
        beats every other solution by the ambiguity margin; then checks 4–5.
-       It costs about 0.1–0.8 s per star, paid only by stars that need it.
+       It costs about 0.1–0.9 s per star, paid only by stars that need it.
 
     References
     ----------
