@@ -14,7 +14,7 @@ against the targets of issue 4:
 - 27-day sectors: ΔΠ1 null with `dpi1_resolution`; the state accuracy measured.
 
 Run:  python benchmarks/mixed_accuracy.py [--stars 42] [--sectors 12] [--seed 11]
-      [--only 3,7,12] [--kind RC,2CL] [--null 12]
+      [--only 3,7,12] [--kind RC,2CL] [--null 12 [--lengths 15,20] [--demo HLD-0102.fits]]
 
 ``--only`` (long-cadence star indices) and ``--kind`` (true states) analyse a subset; the
 random draws of the other stars are still made, so every star keeps the seed it has in
@@ -26,7 +26,9 @@ given explicitly.
 star is moved N times to random bins of its dipole region and searched again; it prints
 the largest winning score of these periodicity-free lists beside the threshold, and the
 largest score of the solutions found only by the extended rotation search beside
-`_MIN_SCORE_EXTENDED`.
+`_MIN_SCORE_EXTENDED`. ``--lengths 15,20`` cuts each shuffled list to that many peaks
+(the list of a fainter star of the same kind), ``--demo`` chooses the demo files; the
+peak equivalents of the best solutions (`_MIN_PEAK_EQUIVALENTS`) are printed too.
 """
 
 from __future__ import annotations
@@ -157,28 +159,39 @@ def summary(rows: list[dict], label: str) -> None:
           f"{np.median([r['seconds'] for r in rows]):15.2f}s")
 
 
-def null_calibration(n_shuffles: int, seed: int) -> None:
+def null_calibration(n_shuffles: int, seed: int, lengths: list[int | None],
+                     names: list[str]) -> None:
     from seismo.mixed.stage import _shuffled_both
-    from seismo.mixed.types import _MIN_SCORE, _MIN_SCORE_EXTENDED, _MIN_SCORE_SCAN
+    from seismo.mixed.types import (
+        _MIN_PEAK_EQUIVALENTS,
+        _MIN_SCORE,
+        _MIN_SCORE_EXTENDED,
+        _MIN_SCORE_SCAN,
+    )
 
     demo = Path(__file__).resolve().parent.parent / "demo_lightcurves"
     rng = np.random.default_rng(seed)
-    every, extended, scanned = [], [], []
-    for name in ("HLD-0101.fits", "HLD-0102.fits", "HLD-0103.csv", "HLD-0104.fits"):
+    every, extended, scanned, tops = [], [], [], []
+    for name in names:
         a = analyze(demo / name)
         ps = a.prepared.spectrum
-        t0 = time.perf_counter()
-        both = _shuffled_both(ps, a.detection.fit.background(ps.freq),
-                              a.result.numax.value, a.pattern, n_shuffles, rng)
-        scores, extra = [b[0] for b in both], [b[1] for b in both]
-        scan = [b[2] for b in both if np.isfinite(b[2])]
-        every += scores
-        extended += extra
-        scanned += scan
-        print(f"{name:14s} {len(scores)} shuffles: max score {max(scores):6.1f}, median "
-              f"{np.median(scores):6.1f}; extended search max {max(extra):6.1f}; grid scan "
-              f"ran {len(scan)}, max {max(scan, default=float('nan')):6.1f} "
-              f"({time.perf_counter() - t0:.1f} s)", flush=True)
+        for length in lengths:
+            t0 = time.perf_counter()
+            both = _shuffled_both(ps, a.detection.fit.background(ps.freq),
+                                  a.result.numax.value, a.pattern, n_shuffles, rng,
+                                  length=length)
+            scores, extra = [b[0] for b in both], [b[1] for b in both]
+            scan = [b[2] for b in both if np.isfinite(b[2])]
+            every += scores
+            extended += extra
+            scanned += scan
+            tops += [(b[3], b[4], b[5]) for b in both]
+            label = f"{name} ({'all' if length is None else length} peaks)"
+            print(f"{label:26s} {len(scores)} shuffles: max score {max(scores):6.1f}, "
+                  f"median {np.median(scores):6.1f}; extended max {max(extra):6.1f}; grid "
+                  f"scan ran {len(scan)}, max {max(scan, default=float('nan')):6.1f}; "
+                  f"reported {int(sum(b[5] for b in both))} "
+                  f"({time.perf_counter() - t0:.1f} s)", flush=True)
     above = sum(s >= _MIN_SCORE for s in every)
     print(f"all {len(every)} shuffles: max {max(every):.1f}; {above} at or above "
           f"_MIN_SCORE = {_MIN_SCORE}")
@@ -189,6 +202,11 @@ def null_calibration(n_shuffles: int, seed: int) -> None:
     print(f"grid-scan solutions ({len(scanned)} scans): max "
           f"{max(scanned, default=float('nan')):.1f}; {above} at or above "
           f"_MIN_SCORE_SCAN = {_MIN_SCORE_SCAN}")
+    high = [t for t in tops if t[0] >= _MIN_SCORE]
+    print(f"best solutions at or above _MIN_SCORE: {len(high)}; their largest peak "
+          f"equivalents {max((t[1] for t in high), default=float('nan')):.1f} "
+          f"(_MIN_PEAK_EQUIVALENTS = {_MIN_PEAK_EQUIVALENTS}); ΔΠ1 reported for "
+          f"{int(sum(t[2] for t in tops))} of {len(tops)} shuffles")
 
 
 def main() -> None:
@@ -202,9 +220,16 @@ def main() -> None:
                         help="comma-separated true states to analyse (RGB, RC, 2CL)")
     parser.add_argument("--null", type=int, default=None,
                         help="run the shuffled-peak false-alarm calibration instead")
+    parser.add_argument("--lengths", type=str, default=None,
+                        help="with --null: comma-separated numbers of peaks of the "
+                             "shuffled lists (default: each star's own number)")
+    parser.add_argument("--demo", type=str, default="HLD-0101.fits,HLD-0102.fits,"
+                        "HLD-0103.csv,HLD-0104.fits",
+                        help="with --null: comma-separated demo files to shuffle")
     args = parser.parse_args()
     if args.null is not None:
-        null_calibration(args.null, args.seed)
+        lengths = [None] if args.lengths is None else [int(x) for x in args.lengths.split(",")]
+        null_calibration(args.null, args.seed, lengths, args.demo.split(","))
         return
     only = None if args.only is None else {int(x) for x in args.only.split(",")}
     kinds = None if args.kind is None else set(args.kind.split(","))

@@ -288,6 +288,14 @@ def _fmt(m: Any, unit: str = "", digits: int = 4) -> str:
     return f"{m.value:.{digits}g}{err}{unit}"
 
 
+def _rivals_text(r: Any) -> str:
+    # ΔΠ1 withheld because solutions tie: show them, the state may rest on them.
+    rivals = (r.details.get("mixed") or {}).get("dpi1_rivals") or []
+    if r.dpi1 is not None or not rivals:
+        return ""
+    return " (tied solutions: " + ", ".join(f"{x['value']:.1f}" for x in rivals) + " s)"
+
+
 def _human_summary(analysis: Any, figure: Path | None) -> str:
     from .scaling import BIAS_NOTE
 
@@ -317,7 +325,7 @@ def _human_summary(analysis: Any, figure: Path | None) -> str:
             f"  mass       {_fmt(r.mass, ' M☉', 3)}",
             f"  radius     {_fmt(r.radius, ' R☉', 3)}",
             f"  log g      {_fmt(r.logg, ' dex', 4)}",
-            f"  ΔΠ1        {_fmt(r.dpi1, ' s', 5)}",
+            f"  ΔΠ1        {_fmt(r.dpi1, ' s', 5)}" + _rivals_text(r),
             f"  q          {_fmt(r.q, '', 3)}",
             f"  ε_g        {_fmt(r.eps_g, '', 3)}",
             f"  core rot.  {_fmt(r.rot_core, ' μHz', 3)}",

@@ -330,7 +330,8 @@ def analyze(
     if dpi1 is None:
         flags.append("dpi1_not_measured")
 
-    state = classify_state(dnu, dpi1, mass)
+    state = classify_state(dnu, dpi1, mass,
+                           dpi1_rivals=() if mixed is None else mixed.dpi1_rivals)
     flags += list(state.reasons)
     details["state"] = {"probabilities": state.probabilities, "reasons": list(state.reasons)}
 

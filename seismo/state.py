@@ -20,6 +20,10 @@ closed form (differences of error functions). With equal priors the
 normalised likelihoods are the state probabilities. A state is reported only
 when its probability reaches `REPORT_THRESHOLD`; otherwise ``"unknown"``.
 
+When ΔΠ1 is withheld because a few solutions a few per cent apart fit about
+equally well, the state is still decided if every one of them gives the same
+state: the regions are a factor of two to three apart in ΔΠ1.
+
 Without ΔΠ1 (short series, unresolved mixed modes) the boxes are used only to
 exclude states: a state is reported when Δν and the mass leave no other
 state possible. The radial-mode offset ε is a discriminator in some
@@ -30,6 +34,7 @@ seismo does not use it until that is settled, and says so in the reasons.
 
 from __future__ import annotations
 
+from collections.abc import Sequence
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -130,11 +135,29 @@ def _check(m: Measurement | None, name: str) -> tuple[float, float] | None:
     return m.value, (m.error or 0.0)
 
 
+def _probabilities(d: tuple[float, float], p: tuple[float, float],
+                   m: tuple[float, float] | None, regions: dict[str, StateRegion]
+                   ) -> dict[str, float] | None:
+    """Normalised box likelihoods of (Δν, ΔΠ1[, mass]); None outside all regions."""
+    like: dict[str, float] = {}
+    for name, r in regions.items():
+        value = _box(d[0], d[1], *r.dnu, r.softness[0]) * _box(p[0], p[1], *r.dpi1,
+                                                                r.softness[1])
+        if m is not None:
+            value *= _box(m[0], m[1], *r.mass, r.softness[2])
+        like[name] = value
+    total = sum(like.values())
+    if not total > 0:
+        return None
+    return {k: v / total for k, v in like.items()}
+
+
 def classify_state(
     dnu: Measurement | None,
     dpi1: Measurement | None = None,
     mass: Measurement | None = None,
     *,
+    dpi1_rivals: Sequence[Measurement] = (),
     mass_bias: float = 0.15,
     regions: dict[str, StateRegion] | None = None,
 ) -> StateResult:
@@ -148,6 +171,11 @@ def classify_state(
         Asymptotic dipole period spacing, s.
     mass : Measurement or None
         Scaling mass, M☉.
+    dpi1_rivals : sequence of Measurement
+        Used only without ``dpi1``: the ΔΠ1 (s) of solutions that fit about
+        equally well (`seismo.mixed.PeriodSpacing.dpi1_rivals`). A state is
+        reported when every one of them gives it with probability at least
+        `REPORT_THRESHOLD`; its probability is then the lowest of theirs.
     mass_bias : float
         Fractional systematic error added to the mass error: uncorrected
         scaling masses of giants run high by about 10–15% (Gaulme et al. 2016).
@@ -171,23 +199,31 @@ def classify_state(
         m = (m[0], float(np.hypot(m[1], mass_bias * m[0])))
 
     if p is not None:
-        like: dict[str, float] = {}
-        for name, r in regions.items():
-            value = _box(d[0], d[1], *r.dnu, r.softness[0]) * _box(p[0], p[1], *r.dpi1,
-                                                                    r.softness[1])
-            if m is not None:
-                value *= _box(m[0], m[1], *r.mass, r.softness[2])
-            like[name] = value
-        total = sum(like.values())
-        if not total > 0:
-            return StateResult("unknown", None, {k: 0.0 for k in like},
+        probs = _probabilities(d, p, m, regions)
+        if probs is None:
+            return StateResult("unknown", None, {k: 0.0 for k in regions},
                                ("state_outside_all_regions", *reasons))
-        probs = {k: v / total for k, v in like.items()}
         best = max(probs, key=probs.get)
         reasons.append("state_from_dnu_dpi1" + ("_mass" if m is not None else ""))
         if probs[best] >= REPORT_THRESHOLD:
             return StateResult(best, probs[best], probs, tuple(reasons))
         return StateResult("unknown", probs[best], probs, ("state_ambiguous", *reasons))
+
+    rivals = [_check(x, "dpi1_rivals item") for x in dpi1_rivals]
+    if rivals:
+        # ΔΠ1 is ambiguous between solutions a few per cent apart; the state
+        # regions differ by a factor of two to three in ΔΠ1, so they may still
+        # agree. The state stands only if every rival gives it, at the lowest
+        # of their probabilities.
+        each = [_probabilities(d, r, m, regions) for r in rivals]
+        states = {None if pr is None else max(pr, key=pr.get) for pr in each}
+        if len(states) == 1 and None not in states:
+            best = states.pop()
+            worst = min(each, key=lambda pr: pr[best])
+            if worst[best] >= REPORT_THRESHOLD:
+                reasons.append("state_from_dnu_dpi1_rivals" + ("_mass" if m is not None else ""))
+                return StateResult(best, worst[best], worst, tuple(reasons))
+        reasons.append("state_dpi1_rivals_disagree")
 
     # No period spacing: use Δν and mass only to exclude states.
     distance = {

@@ -106,3 +106,18 @@ def test_python_dash_m_and_version():
 def test_no_command_prints_help(capsys):
     assert main([]) == 2
     assert "analyze" in capsys.readouterr().out
+
+
+def test_summary_shows_tied_dpi1_solutions_only_without_dpi1():
+    # Common practice: a withheld value is shown with the reason it was withheld.
+    from types import SimpleNamespace
+
+    from seismo.cli import _rivals_text
+    from seismo.results import Measurement
+
+    mixed = {"dpi1_rivals": [{"value": 245.04, "error": 0.1}, {"value": 241.65, "error": 0.2}]}
+    tied = SimpleNamespace(dpi1=None, details={"mixed": mixed})
+    assert _rivals_text(tied) == " (tied solutions: 245.0, 241.7 s)"
+    measured = SimpleNamespace(dpi1=Measurement(245.0, 0.1), details={"mixed": mixed})
+    assert _rivals_text(measured) == ""
+    assert _rivals_text(SimpleNamespace(dpi1=None, details={})) == ""

@@ -60,6 +60,40 @@ def test_without_dpi1_only_exclusion_decides():
     assert classify_state(None).state == "unknown"
 
 
+def test_rival_dpi1_values_in_one_region_give_that_state():
+    # Three solutions 240–245 s fit about equally well: each lies in the red-clump
+    # region (ΔΠ1 ≈ 240–360 s, Δν ≈ 3–5.5 μHz, mass below ≈ 2 M☉; Mosser et al. 2014,
+    # Vrard et al. 2016, from memory), so the state is RC although ΔΠ1 is not known to
+    # better than a few per cent. The probability is that of the least favourable rival.
+    dnu, mass = M(4.1, 0.01), M(1.2, 0.08)
+    rivals = [M(245.0, 0.3), M(241.7, 0.4), M(262.0, 0.5)]
+    result = classify_state(dnu, None, mass, dpi1_rivals=rivals)
+    each = [classify_state(dnu, r, mass).probabilities["RC"] for r in rivals]
+    assert result.state == "RC"
+    assert result.probability == pytest.approx(min(each))
+    assert "state_from_dnu_dpi1_rivals_mass" in result.reasons
+    # A measured ΔΠ1 takes precedence over rivals.
+    assert classify_state(dnu, M(75.0, 1.0), mass, dpi1_rivals=rivals).state == "RGB"
+
+
+def test_rival_dpi1_values_in_different_regions_give_no_state_from_them():
+    # 90 s is on the red-giant branch, 280 s in the red clump (Bedding et al. 2011:
+    # bumped spacings ~50 s versus 100–300 s): the tie cannot decide. At Δν = 4 μHz all
+    # three states are allowed, so the answer is unknown; at Δν = 14 μHz the Δν
+    # exclusion alone still gives RGB.
+    rivals = [M(90.0, 0.5), M(280.0, 1.0)]
+    low = classify_state(M(4.0, 0.01), None, M(1.2, 0.1), dpi1_rivals=rivals)
+    assert low.state == "unknown"
+    assert "state_dpi1_rivals_disagree" in low.reasons
+    high = classify_state(M(14.0, 0.05), None, None, dpi1_rivals=rivals)
+    assert high.state == "RGB" and "state_without_dpi1" in high.reasons
+    # Rivals that lie in one region but not confidently (RC/2CL overlap near 250 s at
+    # Δν = 4.5 μHz without a mass) give no state either.
+    overlap = classify_state(M(4.5, 0.01), None, None,
+                             dpi1_rivals=[M(250.0, 1.0), M(255.0, 1.0)])
+    assert overlap.state == "unknown"
+
+
 def test_reasons_say_eps_is_not_used():
     assert "state_eps_not_used" in classify_state(M(8.0, 0.1), M(75.0, 1.0)).reasons
 
@@ -67,6 +101,8 @@ def test_reasons_say_eps_is_not_used():
 def test_bad_arguments():
     with pytest.raises(OptionError, match="Measurement"):
         classify_state(8.0)
+    with pytest.raises(OptionError, match="dpi1_rivals"):
+        classify_state(M(4.0, 0.01), dpi1_rivals=[250.0])
     with pytest.raises(OptionError, match="mass_bias"):
         classify_state(M(8.0, 0.1), mass_bias=2.0)
 

@@ -33,6 +33,18 @@ class _Fit:
     cov: np.ndarray | None
     rotating: bool
 
+    def peak_equivalents(self, freq: np.ndarray) -> float:
+        """The score in units of the mean gain of one peak placed exactly on the model.
+
+        A peak at zero residual adds log(½ + ½ s/(√(2π) σ)) to the mixture score
+        (`_Model.score` with w_m = 1), s = ζ ν² ΔΠ1 the local mode spacing and σ the
+        peak's frequency uncertainty: the score divided by the mean of this over the
+        peaks is roughly how many peaks the solution places exactly.
+        """
+        spacing = self.params[0] * self.zeta * freq**2 * 1e-6
+        gain = float(np.mean(np.log(0.5 + 0.5 * spacing / (np.sqrt(2 * np.pi) * self.sigma))))
+        return self.score / gain if gain > 0 else float("nan")
+
 
 class _Model:
     """Phase residuals of peaks against tan θp = q tan θg (bare float64 arrays)."""

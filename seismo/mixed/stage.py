@@ -34,6 +34,7 @@ from .types import (
     _DPI1_RANGE,
     _M_ROUNDS_EXTENDED,
     _MIN_INLIERS,
+    _MIN_PEAK_EQUIVALENTS,
     _MIN_PEAKS,
     _MIN_RESOLUTIONS,
     _MIN_SCORE,
@@ -251,9 +252,15 @@ def _shuffled_scores(ps: PowerSpectrum, background: Any, numax: float, pattern: 
 
 def _shuffled_both(ps: PowerSpectrum, background: Any, numax: float, pattern: Any,
                    n_shuffles: int, rng: np.random.Generator | int | None = None,
-                   false_alarm: float = 0.9) -> list[tuple[float, float, float]]:
+                   false_alarm: float = 0.9, length: int | None = None
+                   ) -> list[tuple[float, ...]]:
     """Per shuffle of `_shuffled_scores`: (best ordinary score, best extended score,
-    best score of the grid scan, −inf when the scan did not run)."""
+    best score of the grid scan (−inf when the scan did not run), best score of all,
+    its peak equivalents (`_MIN_PEAK_EQUIVALENTS`), 1.0 if a ΔΠ1 was reported else 0.0).
+
+    With ``length``, each shuffled list has that many peaks (at most the real
+    number): the list of a fainter star of the same kind.
+    """
     numax, bg = _validate(ps, background, numax, pattern, false_alarm)
     rng = np.random.default_rng(rng)
     inputs: dict[str, Any] = {"numax": numax, "false_alarm": float(false_alarm)}
@@ -264,15 +271,20 @@ def _shuffled_both(ps: PowerSpectrum, background: Any, numax: float, pattern: An
     if freq.size < _MIN_PEAKS:
         return []
     bins = ps.freq[mask]
+    size = freq.size if length is None else max(_MIN_PEAKS, min(int(length), freq.size))
     scores = []
     for _ in range(n_shuffles):  # a loop over shuffles, each a full search
-        fake = np.sort(rng.choice(bins, size=freq.size, replace=False))
-        result = _solve(fake, rng.permutation(snr), ps.df, dict(inputs))
+        fake = np.sort(rng.choice(bins, size=size, replace=False))
+        heights = rng.permutation(snr) if size == freq.size else rng.choice(snr, size)
+        result = _solve(fake, heights, ps.df, dict(inputs))
         ordinary = [c["score"] for c in result.candidates
                     if not c["extended"] and not c["scan"]]
         extra = [c["score"] for c in result.candidates if c["extended"]]
         scores.append((max(ordinary, default=-np.inf), max(extra, default=-np.inf),
-                       result.inputs.get("scan_score", -np.inf)))
+                       result.inputs.get("scan_score", -np.inf),
+                       result.inputs.get("top_score", -np.inf),
+                       result.inputs.get("top_peak_equivalents", float("nan")),
+                       float(result.dpi1 is not None)))
     return scores
 
 
@@ -313,9 +325,12 @@ def _solve(freq: np.ndarray, snr: np.ndarray, df: float, inputs: dict[str, Any]
 
     order = np.argsort([-f.score for f in fits])
     win = fits[order[0]]
+    # Every solution with the score threshold of the search that found it.
+    pool = [(f, _MIN_SCORE) for f in fits]
     extra = _extended_fits(model, freq, nu_p0, numax, lo, hi)
     candidates += [_describe(fit, True) for fit in extra]
     extra = [f for f in extra if _beyond_ordinary(f, numax)]
+    pool += [(f, _MIN_SCORE_EXTENDED) for f in extra]
     inputs["extended_score"] = max((f.score for f in extra), default=float("-inf"))
     if extra:
         best_extra = max(extra, key=lambda f: f.score)
@@ -327,7 +342,7 @@ def _solve(freq: np.ndarray, snr: np.ndarray, df: float, inputs: dict[str, Any]
             fits, win = extra, best_extra
             inputs["extended_win"] = True
     # Otherwise the extended solutions are not rivals: a clear ordinary winner stays.
-    flags = _winner_flags(win, fits, _MIN_SCORE)
+    flags = _winner_flags(win, fits, _MIN_SCORE, freq)
     inputs["scan_score"] = float("-inf")
     if flags:
         # No ΔΠ1 from the stretched-period power: the grid scan of the mixture score
@@ -335,28 +350,31 @@ def _solve(freq: np.ndarray, snr: np.ndarray, df: float, inputs: dict[str, Any]
         # half to one g-mode spacing. It must pass its own threshold and beat every
         # solution found so far by the ambiguity margin.
         scanned = _scan_fits(model, numax)
+        pool += [(f, _MIN_SCORE_SCAN) for f in scanned]
         candidates += [_describe(fit, False, scan=True) for fit in scanned]
         best_scan = max(scanned, key=lambda f: f.score)
         inputs["scan_score"] = float(best_scan.score)
         everything = [*fits, *extra, *scanned]
         if (best_scan.score >= _MIN_SCORE_SCAN
-                and not _winner_flags(best_scan, everything, _MIN_SCORE_SCAN)):
+                and not _winner_flags(best_scan, everything, _MIN_SCORE_SCAN, freq)):
             win, fits, flags = best_scan, everything, []
             inputs["scan_win"] = True
+    top = max(pool, key=lambda entry: entry[0].score)[0]
+    inputs.update(top_score=float(top.score),
+                  top_peak_equivalents=float(top.peak_equivalents(freq)))
     n_in = int(np.sum(win.inlier))
 
     nu_p = model.nu_p(win.params[3])
-    resid = _model_residuals(freq, win, nu_p, dnu, lo, hi)
-    rms = float(np.sqrt(np.mean(resid[win.inlier] ** 2))) if n_in else float("nan")
+    rms = _residual_rms(model, win, lo, hi)
     inputs.update(d01=d01 + float(win.params[3]), nu_p=[float(x) for x in nu_p],
                   residual_rms=rms, n_inliers=n_in)
-    if not np.isfinite(rms) or rms > 3.0 * float(np.median(win.sigma)):
+    if not _fits_well(win, rms):
         flags.append("dpi1_ambiguous")
     peaks = DipolePeaks(freq, snr, win.m if win.rotating else np.zeros(freq.size, np.int64),
                         win.inlier, win.zeta)
     if flags:
         return PeriodSpacing(None, None, None, None, tuple(dict.fromkeys(flags)), peaks,
-                             candidates, inputs)
+                             candidates, inputs, _rivals(pool, model, lo, hi, inputs))
 
     err = np.sqrt(np.diag(win.cov))
     dpi1, q, eps_g, _, rot = win.params
@@ -380,6 +398,58 @@ def _solve(freq: np.ndarray, snr: np.ndarray, df: float, inputs: dict[str, Any]
     )
 
 
+def _residual_rms(model: _Model, fit: _Fit, lo: float, hi: float) -> float:
+    """RMS distance of the inliers to the root-found model of ``fit``, μHz (NaN
+    without inliers)."""
+    if not np.any(fit.inlier):
+        return float("nan")
+    resid = _model_residuals(model.freq, fit, model.nu_p(fit.params[3]), model.dnu, lo, hi)
+    return float(np.sqrt(np.mean(resid[fit.inlier] ** 2)))
+
+
+def _fits_well(fit: _Fit, rms: float) -> bool:
+    """Whether the root-found model of ``fit`` matches its inliers: RMS distance at
+    most three times the median peak uncertainty."""
+    return bool(np.isfinite(rms) and rms <= 3.0 * float(np.median(fit.sigma)))
+
+
+def _rivals(pool: list[tuple[_Fit, float]], model: _Model, lo: float, hi: float,
+            inputs: dict[str, Any]) -> tuple[Measurement, ...]:
+    """ΔΠ1 of the solutions that tie with the best one, when only the tie stops ΔΠ1.
+
+    ``pool`` holds every refined solution with the score threshold of the search
+    that found it. The best solution must pass that threshold and
+    `_MIN_PEAK_EQUIVALENTS`, have at least `_MIN_INLIERS` inliers and 30 % of the
+    peaks, a covariance and a model that
+    matches its inliers (`_fits_well`); then every solution within
+    `_AMBIGUITY_MARGIN` of its score is a rival (at least one more than 1 % away in
+    ΔΠ1, as in `_winner_flags`). Returns their ΔΠ1 (s, error from the fit, or 1 %
+    without a covariance), best first, one per group of solutions within 1 %, and
+    records them in ``inputs["dpi1_rivals"]``; an empty tuple when the best solution
+    fails a check.
+    """
+    top, min_score = max(pool, key=lambda entry: entry[0].score)
+    n_in = int(np.sum(top.inlier))
+    if (top.score < min_score or n_in < max(_MIN_INLIERS, 0.3 * top.inlier.size)
+            or not top.peak_equivalents(model.freq) >= _MIN_PEAK_EQUIVALENTS
+            or top.cov is None or not _fits_well(top, _residual_rms(model, top, lo, hi))):
+        return ()
+    tied = sorted((f for f, _ in pool if f.score > top.score - _AMBIGUITY_MARGIN),
+                  key=lambda f: -f.score)
+    distinct: list[_Fit] = []
+    for f in tied:  # a loop over a few solutions; the same solution refined twice counts once
+        if all(abs(f.params[0] / g.params[0] - 1.0) > 0.01 for g in distinct):
+            distinct.append(f)
+    if len(distinct) < 2:
+        return ()  # no tie: ΔΠ1 was withheld for another reason
+    out = tuple(Measurement(float(f.params[0]),
+                            float(np.sqrt(f.cov[0, 0])) if f.cov is not None
+                            else 0.01 * float(f.params[0]))
+                for f in distinct)
+    inputs["dpi1_rivals"] = [[m.value, m.error] for m in out]
+    return out
+
+
 def _describe(fit: _Fit, extended: bool, scan: bool = False) -> dict[str, Any]:
     """Candidate entry of a refined fit (no search values)."""
     return {"dpi1": float("nan"), "q": float("nan"), "rotation": float("nan"),
@@ -389,14 +459,16 @@ def _describe(fit: _Fit, extended: bool, scan: bool = False) -> dict[str, Any]:
             "extended": float(extended), "scan": float(scan)}
 
 
-def _winner_flags(win: _Fit, fits: list[_Fit], min_score: float) -> list[str]:
+def _winner_flags(win: _Fit, fits: list[_Fit], min_score: float, freq: np.ndarray
+                  ) -> list[str]:
     """Reasons why ``win`` cannot be reported as ΔΠ1 (empty when it can).
 
     A rival more than 1 % away in ΔΠ1 within `_AMBIGUITY_MARGIN` of its score
     (``dpi1_rotation`` when either is rotating, else ``dpi1_ambiguous``); a score
-    below ``min_score`` or fewer than `_MIN_INLIERS` inliers
-    (``dpi1_no_periodicity``); inliers below 30 % of the peaks or no covariance
-    (``dpi1_ambiguous``).
+    below ``min_score``, fewer than `_MIN_INLIERS` inliers or fewer than
+    `_MIN_PEAK_EQUIVALENTS` peak equivalents (``dpi1_no_periodicity``); inliers
+    below 30 % of the peaks or no covariance (``dpi1_ambiguous``). ``freq`` are the
+    peak frequencies, μHz.
     """
     flags: list[str] = []
     rivals = sorted((f for f in fits if f is not win
@@ -406,7 +478,8 @@ def _winner_flags(win: _Fit, fits: list[_Fit], min_score: float) -> list[str]:
         flags.append("dpi1_rotation" if win.rotating or rivals[0].rotating
                      else "dpi1_ambiguous")
     n_in = int(np.sum(win.inlier))
-    if n_in < _MIN_INLIERS or win.score < min_score:
+    if (n_in < _MIN_INLIERS or win.score < min_score
+            or not win.peak_equivalents(freq) >= _MIN_PEAK_EQUIVALENTS):
         flags.append("dpi1_no_periodicity")
     elif n_in < 0.3 * win.inlier.size or win.cov is None:
         flags.append("dpi1_ambiguous")

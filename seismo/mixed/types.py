@@ -96,6 +96,17 @@ _MIN_SCORE_EXTENDED = 30.0
 # scan score 21.3 (18.7 and 21.3); threshold set 3.7 above it. Real scan
 # winners of the 126-star benchmark: 28.7–65 (docs/accuracy.md).
 _MIN_SCORE_SCAN = 25.0
+# Every winner must also be worth this many peaks placed exactly on the model
+# (`fit._Fit.peak_equivalents`). Where the mode spacing is hundreds of times the
+# peak uncertainty (high numax), about six exactly placed peaks already score 22,
+# and random lists of 15–28 peaks manage that: shuffles of the HLD-0102 list (ν_max
+# 180 μHz) cut to those lengths scored up to 23.5, and 4 of about 500 were reported.
+# Calibration (`benchmarks/mixed_accuracy.py --null 30 --lengths 12,17,24,32 --seed 2`
+# and `--null 60 --lengths 15,20,24,28 --seed 3` on HLD-0102 and HLD-0104; 1080 shuffles):
+# the 5 shuffles at or above `_MIN_SCORE` had at most 7.0 peak equivalents, those
+# above 20 at most 9.0 (up to 16.9 at lower scores, where `_MIN_SCORE` decides).
+# Reported winners of the 42-star benchmark (seed 11): 10.9–54 (docs/accuracy.md).
+_MIN_PEAK_EQUIVALENTS = 8.0
 # Rotation is kept when it explains this many more peaks (count and fraction
 # of all peaks) without lowering the mixture score by more than the loss.
 _ROTATION_GAIN = 4
@@ -169,6 +180,13 @@ class PeriodSpacing:
         offset of the nominal l=1 p modes in units of Δν, relation value
         included), ``nu_p`` (list of nominal l=1 p modes, μHz),
         ``residual_rms`` (μHz, inliers against `mixed_mode_frequencies`).
+    dpi1_rivals : tuple of Measurement
+        When ΔΠ1 is withheld only because solutions of different ΔΠ1 score
+        within `_AMBIGUITY_MARGIN` of the best one (which itself passes its
+        score threshold and the fit-quality checks): the ΔΠ1 (s) of each of
+        these solutions, best first. Empty otherwise. The evolutionary state
+        can still be decided when all of them lie in one state's region
+        (`seismo.state.classify_state`).
     """
 
     dpi1: Measurement | None
@@ -179,6 +197,7 @@ class PeriodSpacing:
     peaks: DipolePeaks
     candidates: list[dict[str, Any]] = field(default_factory=list)
     inputs: dict[str, Any] = field(default_factory=dict)
+    dpi1_rivals: tuple[Measurement, ...] = ()
 
     def model_frequencies(self) -> tuple[np.ndarray, np.ndarray]:
         """Mode frequencies of the best fit in the analysis window.
@@ -262,6 +281,7 @@ class PeriodSpacing:
         return {
             "dpi1": meas(self.dpi1), "q": meas(self.q), "eps_g": meas(self.eps_g),
             "rot_core": meas(self.rot_core), "flags": list(self.flags), "peaks": peaks,
+            "dpi1_rivals": [meas(x) for x in self.dpi1_rivals],
             "candidates": [{k: float(v) for k, v in c.items()} for c in self.candidates],
             "inputs": {k: (list(v) if isinstance(v, (list, tuple)) else v)
                        for k, v in self.inputs.items()},
