@@ -189,6 +189,12 @@ def measure_mixed_modes(
        `_MIN_SCORE_SCAN` (more hypotheses: higher false-alarm threshold) and
        beats every other solution by the ambiguity margin; then checks 4–5.
        It costs about 0.1–0.9 s per star, paid only by stars that need it.
+    8. Every winner must also be worth `_MIN_PEAK_EQUIVALENTS` peaks placed
+       exactly on its model (`_Fit.peak_equivalents`): for high-numax stars a
+       few chance alignments of a short list already reach the score
+       thresholds. When ΔΠ1 is withheld only because solutions of different
+       ΔΠ1 tie within the margin, their values are returned as
+       ``dpi1_rivals`` (for `seismo.state.classify_state`).
 
     References
     ----------
@@ -255,8 +261,9 @@ def _shuffled_both(ps: PowerSpectrum, background: Any, numax: float, pattern: An
                    false_alarm: float = 0.9, length: int | None = None
                    ) -> list[tuple[float, ...]]:
     """Per shuffle of `_shuffled_scores`: (best ordinary score, best extended score,
-    best score of the grid scan (−inf when the scan did not run), best score of all,
-    its peak equivalents (`_MIN_PEAK_EQUIVALENTS`), 1.0 if a ΔΠ1 was reported else 0.0).
+    best score of the grid scan (−inf when the scan did not run), how far the best
+    solution of all is above the score threshold of the search that found it, its peak
+    equivalents (`_MIN_PEAK_EQUIVALENTS`), 1.0 if a ΔΠ1 was reported else 0.0).
 
     With ``length``, each shuffled list has that many peaks (at most the real
     number): the list of a fainter star of the same kind.
@@ -282,7 +289,8 @@ def _shuffled_both(ps: PowerSpectrum, background: Any, numax: float, pattern: An
         extra = [c["score"] for c in result.candidates if c["extended"]]
         scores.append((max(ordinary, default=-np.inf), max(extra, default=-np.inf),
                        result.inputs.get("scan_score", -np.inf),
-                       result.inputs.get("top_score", -np.inf),
+                       result.inputs.get("top_score", -np.inf)
+                       - result.inputs.get("top_min_score", 0.0),
                        result.inputs.get("top_peak_equivalents", float("nan")),
                        float(result.dpi1 is not None)))
     return scores
@@ -359,8 +367,8 @@ def _solve(freq: np.ndarray, snr: np.ndarray, df: float, inputs: dict[str, Any]
                 and not _winner_flags(best_scan, everything, _MIN_SCORE_SCAN, freq)):
             win, fits, flags = best_scan, everything, []
             inputs["scan_win"] = True
-    top = max(pool, key=lambda entry: entry[0].score)[0]
-    inputs.update(top_score=float(top.score),
+    top, top_min = max(pool, key=lambda entry: entry[0].score)
+    inputs.update(top_score=float(top.score), top_min_score=float(top_min),
                   top_peak_equivalents=float(top.peak_equivalents(freq)))
     n_in = int(np.sum(win.inlier))
 
