@@ -428,13 +428,13 @@ def _rivals(pool: list[tuple[_Fit, float]], model: _Model, lo: float, hi: float,
     ``pool`` holds every refined solution with the score threshold of the search
     that found it. The best solution must pass that threshold and
     `_MIN_PEAK_EQUIVALENTS`, have at least `_MIN_INLIERS` inliers and 30 % of the
-    peaks, a covariance and a model that
-    matches its inliers (`_fits_well`); then every solution within
-    `_AMBIGUITY_MARGIN` of its score is a rival (at least one more than 1 % away in
-    ΔΠ1, as in `_winner_flags`). Returns their ΔΠ1 (s, error from the fit, or 1 %
-    without a covariance), best first, one per group of solutions within 1 %, and
-    records them in ``inputs["dpi1_rivals"]``; an empty tuple when the best solution
-    fails a check.
+    peaks, a covariance and a model that matches its inliers (`_fits_well`); then
+    every solution within `_AMBIGUITY_MARGIN` of its score is a rival (at least one
+    more than 1 % away in ΔΠ1, as in `_winner_flags`). Rivals need not pass a
+    threshold themselves: more rivals only make the state harder to agree on.
+    Returns their ΔΠ1 (s, error from the fit, or 1 % without a covariance), best
+    first, one per group of solutions within 1 %, and records them in
+    ``inputs["dpi1_rivals"]``; an empty tuple when the best solution fails a check.
     """
     top, min_score = max(pool, key=lambda entry: entry[0].score)
     n_in = int(np.sum(top.inlier))
