@@ -204,8 +204,8 @@ def null_calibration(n_shuffles: int, seed: int, lengths: list[int | None],
           f"_MIN_SCORE_SCAN = {_MIN_SCORE_SCAN}")
     high = [t for t in tops if t[0] >= 0]
     print(f"best solutions at or above the score threshold of their search: {len(high)}; "
-          f"their largest peak "
-          f"equivalents {max((t[1] for t in high), default=float('nan')):.1f} "
+          f"their largest peak equivalents "
+          f"{max((t[1] for t in high), default=float('nan')):.1f} "
           f"(_MIN_PEAK_EQUIVALENTS = {_MIN_PEAK_EQUIVALENTS}); ΔΠ1 reported for "
           f"{int(sum(t[2] for t in tops))} of {len(tops)} shuffles")
 
