@@ -28,7 +28,9 @@ the largest winning score of these periodicity-free lists beside the threshold, 
 largest score of the solutions found only by the extended rotation search beside
 `_MIN_SCORE_EXTENDED`. ``--lengths 15,20`` cuts each shuffled list to that many peaks
 (the list of a fainter star of the same kind), ``--demo`` chooses the demo files; the
-peak equivalents of the best solutions (`_MIN_PEAK_EQUIVALENTS`) are printed too.
+peak equivalents of the best solutions (`_MIN_PEAK_EQUIVALENTS`) are printed too;
+``--deep`` shuffles the deeper peak lists of the second pass instead
+(`seismo.mixed.types._DEEP_FALSE_ALARM`) against its thresholds `_DEEP`.
 """
 
 from __future__ import annotations
@@ -160,14 +162,13 @@ def summary(rows: list[dict], label: str) -> None:
 
 
 def null_calibration(n_shuffles: int, seed: int, lengths: list[int | None],
-                     names: list[str]) -> None:
+                     names: list[str], deep: bool = False) -> None:
     from seismo.mixed.stage import _shuffled_both
-    from seismo.mixed.types import (
-        _MIN_PEAK_EQUIVALENTS,
-        _MIN_SCORE,
-        _MIN_SCORE_EXTENDED,
-        _MIN_SCORE_SCAN,
-    )
+    from seismo.mixed.types import _DEEP, _FIRST, _MIN_PEAK_EQUIVALENTS
+
+    levels = _DEEP if deep else _FIRST
+    if deep:
+        print("second-pass (deep) peak lists, thresholds", levels)
 
     demo = Path(__file__).resolve().parent.parent / "demo_lightcurves"
     rng = np.random.default_rng(seed)
@@ -179,7 +180,7 @@ def null_calibration(n_shuffles: int, seed: int, lengths: list[int | None],
             t0 = time.perf_counter()
             both = _shuffled_both(ps, a.detection.fit.background(ps.freq),
                                   a.result.numax.value, a.pattern, n_shuffles, rng,
-                                  length=length)
+                                  length=length, deep=deep)
             scores, extra = [b[0] for b in both], [b[1] for b in both]
             scan = [b[2] for b in both if np.isfinite(b[2])]
             every += scores
@@ -192,16 +193,16 @@ def null_calibration(n_shuffles: int, seed: int, lengths: list[int | None],
                   f"scan ran {len(scan)}, max {max(scan, default=float('nan')):6.1f}; "
                   f"reported {int(sum(b[5] for b in both))} "
                   f"({time.perf_counter() - t0:.1f} s)", flush=True)
-    above = sum(s >= _MIN_SCORE for s in every)
+    above = sum(s >= levels.score for s in every)
     print(f"all {len(every)} shuffles: max {max(every):.1f}; {above} at or above "
-          f"_MIN_SCORE = {_MIN_SCORE}")
-    above = sum(s >= _MIN_SCORE_EXTENDED for s in extended)
+          f"the ordinary threshold {levels.score}")
+    above = sum(s >= levels.extended for s in extended)
     print(f"extended-search solutions: max {max(extended):.1f}; {above} at or above "
-          f"_MIN_SCORE_EXTENDED = {_MIN_SCORE_EXTENDED}")
-    above = sum(s >= _MIN_SCORE_SCAN for s in scanned)
+          f"the extended threshold {levels.extended}")
+    above = sum(s >= levels.scan for s in scanned)
     print(f"grid-scan solutions ({len(scanned)} scans): max "
           f"{max(scanned, default=float('nan')):.1f}; {above} at or above "
-          f"_MIN_SCORE_SCAN = {_MIN_SCORE_SCAN}")
+          f"the scan threshold {levels.scan}")
     high = [t for t in tops if t[0] >= 0]
     print(f"best solutions at or above the score threshold of their search: {len(high)}; "
           f"their largest peak equivalents "
@@ -227,10 +228,12 @@ def main() -> None:
     parser.add_argument("--demo", type=str, default="HLD-0101.fits,HLD-0102.fits,"
                         "HLD-0103.csv,HLD-0104.fits",
                         help="with --null: comma-separated demo files to shuffle")
+    parser.add_argument("--deep", action="store_true",
+                        help="with --null: shuffle the second-pass (deeper) peak lists")
     args = parser.parse_args()
     if args.null is not None:
         lengths = [None] if args.lengths is None else [int(x) for x in args.lengths.split(",")]
-        null_calibration(args.null, args.seed, lengths, args.demo.split(","))
+        null_calibration(args.null, args.seed, lengths, args.demo.split(","), args.deep)
         return
     only = None if args.only is None else {int(x) for x in args.only.split(",")}
     kinds = None if args.kind is None else set(args.kind.split(","))

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+from dataclasses import replace
 from typing import Any
 
 import numpy as np
@@ -31,15 +32,15 @@ from .setup import (
 )
 from .types import (
     _AMBIGUITY_MARGIN,
+    _DEEP,
+    _DEEP_FALSE_ALARM,
     _DPI1_RANGE,
+    _FIRST,
     _M_ROUNDS_EXTENDED,
     _MIN_INLIERS,
     _MIN_PEAK_EQUIVALENTS,
     _MIN_PEAKS,
     _MIN_RESOLUTIONS,
-    _MIN_SCORE,
-    _MIN_SCORE_EXTENDED,
-    _MIN_SCORE_SCAN,
     _N_CANDIDATES,
     _ROT_CYCLES,
     _ROT_CYCLES_EXTENDED,
@@ -47,6 +48,7 @@ from .types import (
     _WINDOW_SIGMAS,
     DipolePeaks,
     PeriodSpacing,
+    _Levels,
 )
 
 __all__ = ["measure_mixed_modes", "resolves_period_spacing"]
@@ -195,6 +197,12 @@ def measure_mixed_modes(
        thresholds. When ΔΠ1 is withheld only because solutions of different
        ΔΠ1 tie within the margin, their values are returned as
        ``dpi1_rivals`` (for `seismo.state.classify_state`).
+    9. Second pass, only when steps 2–8 give neither a ΔΠ1 nor tied solutions:
+       steps 3–8 on the deeper peak list above −ln(`_DEEP_FALSE_ALARM`/N) (about
+       eight noise peaks), against the higher thresholds `_DEEP` (two passes, twice
+       the trials). Its result is used if it gives a ΔΠ1 or tied solutions, flagged
+       ``dpi1_deep_peaks``; the faint g-dominated modes of clump stars often lie
+       just below the first threshold.
 
     References
     ----------
@@ -214,11 +222,38 @@ def measure_mixed_modes(
     n_bins = int(mask.sum())
     threshold = -np.log(false_alarm / max(n_bins, 1))
     inputs.update(threshold=float(threshold), n_bins=n_bins)
-    freq, snr = _find_peaks(ps.freq, ps.density / bg, mask, threshold,
-                            max(2.5 * df, 0.5 * _TYPICAL_LINEWIDTH))
+    ratio = ps.density / bg
+    merge = max(2.5 * df, 0.5 * _TYPICAL_LINEWIDTH)
+    freq, snr = _find_peaks(ps.freq, ratio, mask, threshold, merge)
     if freq.size < _MIN_PEAKS:
-        return _empty(["dpi1_few_peaks"], inputs, freq, snr)
-    return _solve(freq, snr, df, inputs)
+        first = _empty(["dpi1_few_peaks"], inputs, freq, snr)
+    else:
+        first = _solve(freq, snr, df, inputs)
+    if first.dpi1 is not None or first.dpi1_rivals or _DEEP_FALSE_ALARM <= false_alarm:
+        return first
+    return _deeper(first, ps.freq, ratio, mask, n_bins, merge, df)
+
+
+def _deeper(first: PeriodSpacing, grid: np.ndarray, ratio: np.ndarray, mask: np.ndarray,
+            n_bins: int, merge: float, df: float) -> PeriodSpacing:
+    """The second pass: the same search on the deeper peak list of `_DEEP_FALSE_ALARM`.
+
+    Returned only when it gives a ΔΠ1 or tied solutions (the first pass gave
+    neither); it is then flagged ``dpi1_deep_peaks`` and its inputs keep the first
+    pass's threshold and peak count (``first_threshold``, ``first_n_peaks``).
+    """
+    threshold = -np.log(_DEEP_FALSE_ALARM / max(n_bins, 1))
+    freq, snr = _find_peaks(grid, ratio, mask, threshold, merge)
+    if freq.size < _MIN_PEAKS or freq.size <= len(first.peaks):
+        return first
+    inputs = {key: value for key, value in first.inputs.items()
+              if key in ("numax", "dnu", "eps_p", "alpha", "window", "n_bins")}
+    inputs.update(threshold=float(threshold), false_alarm=_DEEP_FALSE_ALARM,
+                  first_threshold=first.inputs["threshold"], first_n_peaks=len(first.peaks))
+    second = _solve(freq, snr, df, inputs, _DEEP)
+    if second.dpi1 is None and not second.dpi1_rivals:
+        return first
+    return replace(second, flags=("dpi1_deep_peaks", *second.flags))
 
 
 def _region(ps: PowerSpectrum, numax: float, pattern: Any, inputs: dict[str, Any]
@@ -258,18 +293,21 @@ def _shuffled_scores(ps: PowerSpectrum, background: Any, numax: float, pattern: 
 
 def _shuffled_both(ps: PowerSpectrum, background: Any, numax: float, pattern: Any,
                    n_shuffles: int, rng: np.random.Generator | int | None = None,
-                   false_alarm: float = 0.9, length: int | None = None
-                   ) -> list[tuple[float, ...]]:
+                   false_alarm: float = 0.9, length: int | None = None,
+                   deep: bool = False) -> list[tuple[float, ...]]:
     """Per shuffle of `_shuffled_scores`: (best ordinary score, best extended score,
     best score of the grid scan (−inf when the scan did not run), how far the best
     solution of all is above the score threshold of the search that found it, its peak
     equivalents (`_MIN_PEAK_EQUIVALENTS`), 1.0 if a ΔΠ1 was reported else 0.0).
 
     With ``length``, each shuffled list has that many peaks (at most the real
-    number): the list of a fainter star of the same kind.
+    number): the list of a fainter star of the same kind. With ``deep``, the lists
+    are those of the second pass (`_DEEP_FALSE_ALARM`, thresholds `_DEEP`).
     """
     numax, bg = _validate(ps, background, numax, pattern, false_alarm)
     rng = np.random.default_rng(rng)
+    levels = _DEEP if deep else _FIRST
+    false_alarm = _DEEP_FALSE_ALARM if deep else false_alarm
     inputs: dict[str, Any] = {"numax": numax, "false_alarm": float(false_alarm)}
     mask = _region(ps, numax, pattern, inputs)
     threshold = -np.log(false_alarm / max(int(mask.sum()), 1))
@@ -283,7 +321,7 @@ def _shuffled_both(ps: PowerSpectrum, background: Any, numax: float, pattern: An
     for _ in range(n_shuffles):  # a loop over shuffles, each a full search
         fake = np.sort(rng.choice(bins, size=size, replace=False))
         heights = rng.permutation(snr) if size == freq.size else rng.choice(snr, size)
-        result = _solve(fake, heights, ps.df, dict(inputs))
+        result = _solve(fake, heights, ps.df, dict(inputs), levels)
         ordinary = [c["score"] for c in result.candidates
                     if not c["extended"] and not c["scan"]]
         extra = [c["score"] for c in result.candidates if c["extended"]]
@@ -296,12 +334,13 @@ def _shuffled_both(ps: PowerSpectrum, background: Any, numax: float, pattern: An
     return scores
 
 
-def _solve(freq: np.ndarray, snr: np.ndarray, df: float, inputs: dict[str, Any]
-           ) -> PeriodSpacing:
+def _solve(freq: np.ndarray, snr: np.ndarray, df: float, inputs: dict[str, Any],
+           levels: _Levels = _FIRST) -> PeriodSpacing:
     """Candidates, refinement and checks for one list of dipole peaks.
 
     ``inputs`` must hold ``numax``, ``dnu``, ``eps_p``, ``alpha``, ``window`` and
     ``false_alarm`` (as set by `measure_mixed_modes`); it is updated in place.
+    ``levels`` are the score thresholds of the pass (`_FIRST` or `_DEEP`).
     """
     numax, dnu, eps, alpha = inputs["numax"], inputs["dnu"], inputs["eps_p"], inputs["alpha"]
     lo, hi = inputs["window"]
@@ -334,23 +373,23 @@ def _solve(freq: np.ndarray, snr: np.ndarray, df: float, inputs: dict[str, Any]
     order = np.argsort([-f.score for f in fits])
     win = fits[order[0]]
     # Every solution with the score threshold of the search that found it.
-    pool = [(f, _MIN_SCORE) for f in fits]
+    pool = [(f, levels.score) for f in fits]
     extra = _extended_fits(model, freq, nu_p0, numax, lo, hi)
     candidates += [_describe(fit, True) for fit in extra]
     extra = [f for f in extra if _beyond_ordinary(f, numax)]
-    pool += [(f, _MIN_SCORE_EXTENDED) for f in extra]
+    pool += [(f, levels.extended) for f in extra]
     inputs["extended_score"] = max((f.score for f in extra), default=float("-inf"))
     if extra:
         best_extra = max(extra, key=lambda f: f.score)
         n_extra = int(np.sum(best_extra.inlier))
-        if (best_extra.score >= _MIN_SCORE_EXTENDED and n_extra >= _MIN_INLIERS
+        if (best_extra.score >= levels.extended and n_extra >= _MIN_INLIERS
                 and best_extra.score > win.score + _AMBIGUITY_MARGIN):
             # The extended solution wins clearly over every ordinary one; its rivals
             # are the other extended solutions (the ordinary ones are all far below).
             fits, win = extra, best_extra
             inputs["extended_win"] = True
     # Otherwise the extended solutions are not rivals: a clear ordinary winner stays.
-    flags = _winner_flags(win, fits, _MIN_SCORE, freq)
+    flags = _winner_flags(win, fits, levels.score, freq)
     inputs["scan_score"] = float("-inf")
     if flags:
         # No ΔΠ1 from the stretched-period power: the grid scan of the mixture score
@@ -358,13 +397,13 @@ def _solve(freq: np.ndarray, snr: np.ndarray, df: float, inputs: dict[str, Any]
         # half to one g-mode spacing. It must pass its own threshold and beat every
         # solution found so far by the ambiguity margin.
         scanned = _scan_fits(model, numax)
-        pool += [(f, _MIN_SCORE_SCAN) for f in scanned]
+        pool += [(f, levels.scan) for f in scanned]
         candidates += [_describe(fit, False, scan=True) for fit in scanned]
         best_scan = max(scanned, key=lambda f: f.score)
         inputs["scan_score"] = float(best_scan.score)
         everything = [*fits, *extra, *scanned]
-        if (best_scan.score >= _MIN_SCORE_SCAN
-                and not _winner_flags(best_scan, everything, _MIN_SCORE_SCAN, freq)):
+        if (best_scan.score >= levels.scan
+                and not _winner_flags(best_scan, everything, levels.scan, freq)):
             win, fits, flags = best_scan, everything, []
             inputs["scan_win"] = True
     top, top_min = max(pool, key=lambda entry: entry[0].score)
@@ -392,7 +431,7 @@ def _solve(freq: np.ndarray, snr: np.ndarray, df: float, inputs: dict[str, Any]
         inputs["rot_halves"] = halves
         if halves is not None and not _halves_agree(halves, rot, err[4]):
             flags.append("rot_core_unstable")
-            if not _holds_without_rotation(model, win, err[0], inputs):
+            if not _holds_without_rotation(model, win, err[0], inputs, levels.score):
                 return PeriodSpacing(None, None, None, None, ("dpi1_rotation", *flags),
                                      peaks, candidates, inputs)
         else:
@@ -544,11 +583,12 @@ def _split_rotation(model: _Model, win: _Fit, numax: float) -> list[list[float]]
 
 
 def _holds_without_rotation(model: _Model, win: _Fit, dpi1_error: float,
-                            inputs: dict[str, Any]) -> bool:
+                            inputs: dict[str, Any], min_score: float) -> bool:
     """Whether the ΔΠ1 of a rotating fit whose splitting is unstable stands without it.
 
     The rotating solution is refitted with no splitting (every peak m = 0). Its
-    ΔΠ1 is kept only if that fit alone passes `_MIN_SCORE` and agrees with the
+    ΔΠ1 is kept only if that fit alone passes ``min_score`` (the ordinary threshold
+    of the pass) and agrees with the
     rotating ΔΠ1 within 3 combined sigmas; otherwise the period spacing rests on
     an m-assignment the split-half check has rejected. ``inputs`` gets
     ``dpi1_without_rotation`` = [ΔΠ1 (s), error (s), score].
@@ -560,7 +600,7 @@ def _holds_without_rotation(model: _Model, win: _Fit, dpi1_error: float,
     still_error = float(np.sqrt(still.cov[0, 0]))
     inputs["dpi1_without_rotation"] = [float(still.params[0]), still_error, still.score]
     tolerance = 3.0 * float(np.hypot(still_error, dpi1_error))
-    return bool(still.score >= _MIN_SCORE
+    return bool(still.score >= min_score
                 and abs(still.params[0] - win.params[0]) <= tolerance)
 
 
