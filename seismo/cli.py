@@ -289,11 +289,12 @@ def _fmt(m: Any, unit: str = "", digits: int = 4) -> str:
 
 
 def _rivals_text(r: Any) -> str:
-    # ΔΠ1 withheld because solutions tie: show them, the state may rest on them.
+    # ΔΠ1 withheld, but candidate values bracket it (tied solutions, or a rotating
+    # solution and its refit without rotation): show them, the state may rest on them.
     rivals = (r.details.get("mixed") or {}).get("dpi1_rivals") or []
     if r.dpi1 is not None or not rivals:
         return ""
-    return " (tied solutions: " + ", ".join(f"{x['value']:.1f}" for x in rivals) + " s)"
+    return " (candidate values: " + ", ".join(f"{x['value']:.1f}" for x in rivals) + " s)"
 
 
 def _human_summary(analysis: Any, figure: Path | None) -> str:

@@ -172,8 +172,10 @@ def classify_state(
     mass : Measurement or None
         Scaling mass, M☉.
     dpi1_rivals : sequence of Measurement
-        Used only without ``dpi1``: the ΔΠ1 (s) of solutions that fit about
-        equally well (`seismo.mixed.PeriodSpacing.dpi1_rivals`). A state is
+        Used only without ``dpi1``: the ΔΠ1 (s) of the values that bracket the
+        period spacing, i.e. solutions that fit about equally well, or a rotating
+        solution and its refit without rotation
+        (`seismo.mixed.PeriodSpacing.dpi1_rivals`). A state is
         reported when every one of them gives it with probability at least
         `REPORT_THRESHOLD`; its probability is then the lowest of theirs.
     mass_bias : float

@@ -117,7 +117,7 @@ def test_summary_shows_tied_dpi1_solutions_only_without_dpi1():
 
     mixed = {"dpi1_rivals": [{"value": 245.04, "error": 0.1}, {"value": 241.65, "error": 0.2}]}
     tied = SimpleNamespace(dpi1=None, details={"mixed": mixed})
-    assert _rivals_text(tied) == " (tied solutions: 245.0, 241.7 s)"
+    assert _rivals_text(tied) == " (candidate values: 245.0, 241.7 s)"
     measured = SimpleNamespace(dpi1=Measurement(245.0, 0.1), details={"mixed": mixed})
     assert _rivals_text(measured) == ""
     assert _rivals_text(SimpleNamespace(dpi1=None, details={})) == ""

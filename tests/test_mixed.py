@@ -22,6 +22,7 @@ from seismo.pipeline import analyze
 from seismo.pmodes import PModeList, RadialPattern
 from seismo.results import Measurement
 from seismo.simulate import OBSERVATIONS, PRESETS, simulate, write_simulation
+from seismo.state import classify_state
 
 LONG = OBSERVATIONS["long-cadence-4yr"]
 DEMO = Path(__file__).resolve().parent.parent / "demo_lightcurves"
@@ -296,6 +297,14 @@ def test_splitting_equal_to_the_g_mode_spacing_gives_no_confident_wrong_dpi1(see
     if result.dpi1 is None:
         assert "dpi1_rotation" in result.flags
         assert result.q is None and result.rot_core is None
+        # The withdrawn rotating solution and its refit without rotation still bracket
+        # ΔΠ1 within a few per cent (aliases of the m-assignment lie about one
+        # resolution element away), both in the red-clump region (240–360 s; Mosser et
+        # al. 2014, Vrard et al. 2016, from memory).
+        rivals = result.dpi1_rivals
+        assert len(rivals) == 2 and all(abs(r.value / 330.0 - 1.0) < 0.03 for r in rivals)
+        state = classify_state(Measurement(4.1, 0.02), dpi1_rivals=rivals)
+        assert state.state == "RC"
     else:
         assert abs(result.dpi1.value - 330.0) <= 3.0 * result.dpi1.error
 
@@ -510,3 +519,31 @@ def test_shuffled_deep_peak_lists_give_no_dpi1():
     assert max(b[0] for b in both) < _DEEP.score
     assert max(b[1] for b in both) < _DEEP.extended
     assert max(b[2] for b in both) < _DEEP.scan
+
+
+def test_a_splitting_rejected_by_the_split_half_check_still_gives_the_state(tmp_path):
+    # Injection and recovery (seismo.simulate): star 71 of `benchmarks/mixed_accuracy.py
+    # --stars 84 --seed 13`, a secondary-clump star (ΔΠ1 = 170.6 s, splitting 0.23 μHz,
+    # 0.3 of its g-mode spacing) with a clear rotating solution at the true values whose
+    # splitting the split-half check rejects (the halves differ by 4σ) and which fails
+    # without rotation: ΔΠ1 is withdrawn with dpi1_rotation, but the rotating solution and
+    # its refit without rotation agree on ΔΠ1, inside the secondary-clump region
+    # (ΔΠ1 ≈ 140–260 s, M above ≈ 1.8 M☉; Mosser et al. 2014, Girardi 1999, from memory).
+    # Common practice: each value consistent with the truth within 1 %.
+    from seismo.config import StarInputs
+
+    star = dataclasses.replace(
+        PRESETS["secondary-clump"], id="T-HALVES", numax=67.68576273406981,
+        dnu=5.70433226218242, dpi1=170.59528001474078, q=0.25169723494227825,
+        rot_core=0.2321972104818673, inclination=47.394416968414774,
+        teff=4947.352001411233, amplitude=56.71886341683353,
+        white_noise=43.24576956159561)
+    sim = simulate(star, LONG, 1526379106)
+    path, _ = write_simulation(sim, tmp_path / "T-HALVES.fits")
+    a = analyze(path, inputs=StarInputs(sim.truth["teff"], 80.0))
+    assert a.mixed.dpi1 is None and "dpi1_rotation" in a.mixed.flags
+    assert "rot_core_unstable" in a.mixed.flags
+    rivals = a.mixed.dpi1_rivals
+    assert len(rivals) == 2 and all(abs(r.value / 170.6 - 1.0) < 0.01 for r in rivals)
+    assert a.result.state == "2CL" and a.result.state_probability >= 0.9
+    assert "state_from_dnu_dpi1_rivals_mass" in a.result.flags

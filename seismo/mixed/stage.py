@@ -433,7 +433,8 @@ def _solve(freq: np.ndarray, snr: np.ndarray, df: float, inputs: dict[str, Any],
             flags.append("rot_core_unstable")
             if not _holds_without_rotation(model, win, err[0], inputs, levels.score):
                 return PeriodSpacing(None, None, None, None, ("dpi1_rotation", *flags),
-                                     peaks, candidates, inputs)
+                                     peaks, candidates, inputs,
+                                     _unstable_rivals(win, err[0], inputs))
         else:
             rot_core = Measurement.or_none(rot, err[4])
     else:
@@ -602,6 +603,24 @@ def _holds_without_rotation(model: _Model, win: _Fit, dpi1_error: float,
     tolerance = 3.0 * float(np.hypot(still_error, dpi1_error))
     return bool(still.score >= min_score
                 and abs(still.params[0] - win.params[0]) <= tolerance)
+
+
+def _unstable_rivals(win: _Fit, dpi1_error: float, inputs: dict[str, Any]
+                     ) -> tuple[Measurement, ...]:
+    """ΔΠ1 (s) of a significant rotating winner withdrawn by the split-half check, and
+    of its refit without rotation (`_holds_without_rotation`), for the state.
+
+    The two bracket the period spacing when only the m-assignment is in doubt: the
+    aliases such an assignment makes lie a resolution element (about 1 %) away, the
+    state regions a factor of two to three apart. A refit without a covariance gets
+    a 1 % error. Recorded in ``inputs["dpi1_rivals"]``.
+    """
+    value, error, _ = inputs["dpi1_without_rotation"]
+    still_error = error if np.isfinite(error) else 0.01 * value
+    out = (Measurement(float(win.params[0]), float(dpi1_error)),
+           Measurement(float(value), float(still_error)))
+    inputs["dpi1_rivals"] = [[m.value, m.error] for m in out]
+    return out
 
 
 def _halves_agree(halves: list[list[float]], rot: float, err: float) -> bool:

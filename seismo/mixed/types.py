@@ -215,7 +215,10 @@ class PeriodSpacing:
         When ΔΠ1 is withheld only because solutions of different ΔΠ1 score
         within `_AMBIGUITY_MARGIN` of the best one (which itself passes its
         score threshold and the fit-quality checks): the ΔΠ1 (s) of each of
-        these solutions, best first. Empty otherwise. The evolutionary state
+        these solutions, best first. When a significant rotating solution is
+        withdrawn because its splitting fails the split-half check and ΔΠ1
+        does not hold without rotation (``dpi1_rotation``): its ΔΠ1 and that
+        of its refit without rotation. Empty otherwise. The evolutionary state
         can still be decided when all of them lie in one state's region
         (`seismo.state.classify_state`).
     """
