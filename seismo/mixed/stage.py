@@ -168,8 +168,10 @@ def measure_mixed_modes(
        if the fit without rotation, started from the winner, passes the same
        score threshold and gives the same ΔΠ1 within 3σ; otherwise ΔΠ1, q and
        ε_g rest on the rejected m-assignment and are withdrawn
-       (``dpi1_rotation``). A splitting close to the g-mode spacing ν²ΔΠ1
-       makes such aliases: the m = ±1 ridges then shift by a whole ΔΠ1.
+       (``dpi1_rotation``); the two ΔΠ1 values are returned as ``dpi1_rivals``
+       (for the state: the aliases lie about 1 % apart). A splitting close to
+       the g-mode spacing ν²ΔΠ1 makes such aliases: the m = ±1 ridges then
+       shift by a whole ΔΠ1.
     6. Extended rotation search: the same power over rotation shifts of
        0.7–1.5 cycles of ΔΠ1 at ν_max (`_ROT_CYCLES_EXTENDED`: splittings
        up to and past the g-mode spacing ν_max²ΔΠ1), candidates and the
