@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import os
+from collections.abc import Sequence
 from pathlib import Path
 from typing import Any
 
@@ -182,9 +183,14 @@ def plot_star(analysis: Any, path: str | os.PathLike[str]) -> Path:
         _draw_period_echelle(ax_period, mixed)
     else:
         reason = ", ".join(f for f in result.flags if f.startswith("dpi1_")) or "no detection"
-        _placeholder(ax_period, f"Period échelle needs ΔΠ1: not measured\n({reason})")
+        text = f"Period échelle needs ΔΠ1: not measured\n({reason})"
+        if mixed is not None and mixed.dpi1_rivals:
+            text += "\ncandidate values: " + ", ".join(
+                f"{r.value:.1f}" for r in mixed.dpi1_rivals) + " s"
+        _placeholder(ax_period, text)
     if result.detected:
-        draw_state_diagram(ax_state, result.dnu, result.dpi1, result.state)
+        draw_state_diagram(ax_state, result.dnu, result.dpi1, result.state,
+                           () if mixed is None else mixed.dpi1_rivals)
     else:
         _placeholder(ax_state, "No evolutionary state without a detection")
     title = f"{result.id}"
@@ -342,7 +348,8 @@ def draw_state_regions(ax: Any, filled: bool) -> None:
                 fontsize=9 if filled else 8, va="top", ha="right")
 
 
-def draw_state_diagram(ax: Any, dnu: Any, dpi1: Any, state: str | None = None) -> None:
+def draw_state_diagram(ax: Any, dnu: Any, dpi1: Any, state: str | None = None,
+                       rivals: Sequence[Any] = ()) -> None:
     """Draw the (Δν, ΔΠ1) diagram with the evolutionary regions and one star.
 
     Parameters
@@ -354,12 +361,22 @@ def draw_state_diagram(ax: Any, dnu: Any, dpi1: Any, state: str | None = None) -
         missing, the star's Δν is drawn as a vertical band.
     state : str, optional
         The star's classified state, for the legend.
+    rivals : sequence of Measurement
+        Candidate ΔΠ1 values (s) when ΔΠ1 is withheld
+        (`seismo.mixed.PeriodSpacing.dpi1_rivals`), drawn as open markers at
+        the star's Δν.
     """
     draw_state_regions(ax, filled=True)
     label = "this star" + (f" ({state})" if state else "")
     if dnu is not None and dpi1 is not None:
         ax.errorbar([dnu.value], [dpi1.value], xerr=[dnu.error or 0], yerr=[dpi1.error or 0],
                     fmt="o", color="#111827", ms=6, capsize=3, label=label)
+    elif dnu is not None and len(rivals):
+        values = [r.value for r in rivals]
+        ax.plot(np.full(len(values), dnu.value), values, "o", mfc="none", mec="#111827",
+                mew=1.5, ms=8, label=label + ": candidate ΔΠ1, not reported")
+        ax.errorbar([dnu.value], [float(np.mean(values))], xerr=[dnu.error or 0], fmt="none",
+                    ecolor="#111827", capsize=3)
     elif dnu is not None:
         ax.axvspan(dnu.value - (dnu.error or 0), dnu.value + (dnu.error or 0),
                    color="#111827", alpha=0.35, label=label + ": Δν only (no ΔΠ1)")

@@ -47,3 +47,18 @@ def test_population_figures_for_small_and_large_catalogs(tmp_path):
                        "mass": rng.uniform(0.8, 2.5, n), "radius": rng.uniform(4, 15, n)})
         files = plot_population(table, tmp_path / str(n))
         assert len(files) == 3 and all(f.stat().st_size > 10_000 for f in files)
+
+
+def test_state_diagram_marks_candidate_dpi1_values_without_dpi1():
+    # Common practice: a withheld value's candidates are shown, marked as not reported.
+    from seismo.plots import agg_pyplot, draw_state_diagram
+    from seismo.results import Measurement
+
+    plt = agg_pyplot()
+    fig, ax = plt.subplots()
+    rivals = (Measurement(298.7, 0.2), Measurement(295.2, 0.3))
+    draw_state_diagram(ax, Measurement(4.36, 0.02), None, "RC", rivals)
+    ys = [list(line.get_ydata()) for line in ax.get_lines()]
+    assert [298.7, 295.2] in ys
+    assert any("candidate" in t.get_text() for t in ax.get_legend().get_texts())
+    plt.close(fig)
