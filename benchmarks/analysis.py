@@ -16,6 +16,8 @@ import sys
 import time
 from pathlib import Path
 
+import numpy as np
+
 from seismo.background import detect_oscillations
 from seismo.config import StarInputs
 from seismo.lightcurve import condition, read_lightcurve
@@ -42,7 +44,6 @@ def main() -> None:
 
     path = Path(sys.argv[1]) if len(sys.argv) > 1 else DEFAULT
     inputs = StarInputs(teff=4750.0, teff_err=80.0)
-    whole = best_of(lambda: analyze(path, inputs=inputs), 5)
 
     raw = read_lightcurve(path)
     lc = condition(raw)
@@ -50,7 +51,12 @@ def main() -> None:
     t_s = (lc.time - lc.time[0]) * 86400.0
     ls = LombScargle(t_s, lc.flux, normalization="psd")
     freq_hz = ps.freq[1:] * 1e-6
-    astropy_fast = best_of(lambda: ls.power(freq_hz, method="fast"), 3)
+    # The two sides of the ratio alternate, round by round, so that a busy spell of the
+    # shared machine slows both; each keeps its best round.
+    whole, astropy_fast = np.inf, np.inf
+    for _ in range(5):  # rounds
+        whole = min(whole, best_of(lambda: analyze(path, inputs=inputs), 1))
+        astropy_fast = min(astropy_fast, best_of(lambda: ls.power(freq_hz, method="fast"), 1))
 
     det = detect_oscillations(ps)
     numax = det.fit.value("envelope:numax")
