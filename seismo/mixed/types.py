@@ -28,9 +28,9 @@ FLAGS: dict[str, str] = {
     "dpi1_rotation": "the rotational multiplets cannot be disentangled from the period "
                      "spacing (rival solutions with and without rotation, or a ΔΠ1 that "
                      "holds only with a splitting the split-half check rejects)",
-    "dpi1_deep_peaks": "ΔΠ1 (or its tied solutions) comes from the second, deeper peak "
-                       "list (about `_DEEP_FALSE_ALARM` noise peaks admitted) after the "
-                       "first list gave none",
+    "dpi1_deep_peaks": "ΔΠ1 (or its candidate values) comes from the second, deeper "
+                       "peak list (about eight noise peaks admitted) after the first list "
+                       "gave none",
     "rot_core_unstable": "the core splitting differs between the peaks below and above "
                          "numax: not reported",
     "rot_core_not_detected": "no significant rotational splitting of the mixed modes",
