@@ -187,9 +187,11 @@ def measure_mixed_modes(
        mixture score of step 4, with each peak's azimuthal order chosen freely,
        over a grid of ΔΠ1 (two points per resolution element), q, rotation
        shifts of 0–1.2 cycles and eight ε_g; the best distinct grid solutions
-       are refined. The triplet kernel of step 3 fades when the splitting is
-       half to one g-mode spacing, and the true ΔΠ1 then is not among the
-       power candidates at all. A scan solution is reported only if it reaches
+       are refined, with the one-cycle aliases of the best one and the
+       solution at twice the splitting of the best rotating one. The triplet
+       kernel of step 3 fades when the splitting is half to one g-mode
+       spacing, and the true ΔΠ1 then is not among the power candidates at
+       all. A scan solution is reported only if it reaches
        `_MIN_SCORE_SCAN` (more hypotheses: higher false-alarm threshold) and
        beats every other solution by the ambiguity margin; then checks 4–5.
        It costs about 0.1–0.9 s per star, paid only by stars that need it.
