@@ -68,13 +68,44 @@ def _truth_pattern(truth):
     )
 
 
-def _analyze_benchmark_star(tmp_path, preset: str, seed: int, **params):
-    """Simulate a star of `benchmarks/mixed_accuracy.py` from its drawn parameters and
-    analyse it through a FITS file, as the benchmark does (the in-memory series differs
-    in the last bits and can give another realisation of a marginal case)."""
+# Stars of `benchmarks/mixed_accuracy.py` (`--stars N --seed S`, star index), with the
+# benchmark's draws at full precision: preset, simulation seed, parameters.
+BENCHMARK_STARS = {
+    # N = 126, S = 12, star 106
+    "T-TIE": ("clump", 1296502319, dict(
+        numax=48.515517235444456, dnu=5.554693727204598, dpi1=244.83346514477262,
+        q=0.3020573531795425, rot_core=0.0, inclination=62.56382202695813,
+        teff=4938.005895802054, amplitude=41.221580238459325,
+        white_noise=131.06630351537564)),
+    # N = 42, S = 11, star 40
+    "T-DEEP": ("clump", 416069296, dict(
+        numax=37.49486146184606, dnu=4.362468960498261, dpi1=296.37924893785214,
+        q=0.3775190596721729, rot_core=0.15109982700944913, inclination=32.89096629183483,
+        teff=4690.495863370789, amplitude=50.7777531681525,
+        white_noise=54.04044379964462)),
+    # N = 84, S = 13, star 71
+    "T-HALVES": ("secondary-clump", 1526379106, dict(
+        numax=67.68576273406981, dnu=5.70433226218242, dpi1=170.59528001474078,
+        q=0.25169723494227825, rot_core=0.2321972104818673, inclination=47.394416968414774,
+        teff=4947.352001411233, amplitude=56.71886341683353,
+        white_noise=43.24576956159561)),
+    # N = 84, S = 13, star 26
+    "T-ROTALIAS": ("secondary-clump", 2010061673, dict(
+        numax=62.31754720042554, dnu=5.37214037294218, dpi1=203.79612947827312,
+        q=0.23672131855950448, rot_core=0.43136441786531066, inclination=47.09497103775388,
+        teff=4997.232467716704, amplitude=37.30415755143679,
+        white_noise=45.7898907298543)),
+}
+
+
+def _analyze_benchmark_star(tmp_path, name: str):
+    """Simulate a star of `BENCHMARK_STARS` and analyse it through a FITS file, as the
+    benchmark does (the in-memory series differs in the last bits and can give another
+    realisation of a marginal case)."""
     from seismo.config import StarInputs
 
-    star = dataclasses.replace(PRESETS[preset], **params)
+    preset, seed, params = BENCHMARK_STARS[name]
+    star = dataclasses.replace(PRESETS[preset], id=name, **params)
     sim = simulate(star, LONG, seed)
     path, _ = write_simulation(sim, tmp_path / f"{star.id}.fits")
     return analyze(path, inputs=StarInputs(sim.truth["teff"], 80.0))
@@ -376,11 +407,7 @@ def test_a_tie_of_dpi1_solutions_in_one_region_still_gives_the_state(tmp_path):
     # (ΔΠ1 ≈ 240–360 s; Mosser et al. 2014, Vrard et al. 2016, from memory), so the state
     # is given. Common practice: each rival is consistent with the truth within a few per
     # cent, the spread of an alias tie.
-    a = _analyze_benchmark_star(
-        tmp_path, "clump", 1296502319, id="T-TIE", numax=48.515517235444456,
-        dnu=5.554693727204598, dpi1=244.83346514477262, q=0.3020573531795425, rot_core=0.0,
-        inclination=62.56382202695813, teff=4938.005895802054,
-        amplitude=41.221580238459325, white_noise=131.06630351537564)
+    a = _analyze_benchmark_star(tmp_path, "T-TIE")
     rivals = a.mixed.dpi1_rivals
     assert a.mixed.dpi1 is None and len(rivals) >= 2
     assert all(abs(r.value / 244.83 - 1.0) < 0.03 for r in rivals)
@@ -488,11 +515,7 @@ def test_a_deeper_peak_list_gives_the_state_of_a_faint_clump_star(tmp_path):
     # thresholds, all in the red-clump region (ΔΠ1 ≈ 240–360 s; Mosser et al. 2014,
     # Vrard et al. 2016, from memory). Common practice: within a few per cent of the
     # truth, the spread of an alias tie.
-    a = _analyze_benchmark_star(
-        tmp_path, "clump", 416069296, id="T-DEEP", numax=37.49486146184606,
-        dnu=4.362468960498261, dpi1=296.37924893785214, q=0.3775190596721729,
-        rot_core=0.15109982700944913, inclination=32.89096629183483,
-        teff=4690.495863370789, amplitude=50.7777531681525, white_noise=54.04044379964462)
+    a = _analyze_benchmark_star(tmp_path, "T-DEEP")
     mixed = a.mixed
     assert "dpi1_deep_peaks" in mixed.flags
     assert mixed.inputs["first_n_peaks"] < len(mixed.peaks)
@@ -530,11 +553,7 @@ def test_a_splitting_rejected_by_the_split_half_check_still_gives_the_state(tmp_
     # its refit without rotation agree on ΔΠ1, inside the secondary-clump region
     # (ΔΠ1 ≈ 140–260 s, M above ≈ 1.8 M☉; Mosser et al. 2014, Girardi 1999, from memory).
     # Common practice: each value consistent with the truth within 1 %.
-    a = _analyze_benchmark_star(
-        tmp_path, "secondary-clump", 1526379106, id="T-HALVES", numax=67.68576273406981,
-        dnu=5.70433226218242, dpi1=170.59528001474078, q=0.25169723494227825,
-        rot_core=0.2321972104818673, inclination=47.394416968414774,
-        teff=4947.352001411233, amplitude=56.71886341683353, white_noise=43.24576956159561)
+    a = _analyze_benchmark_star(tmp_path, "T-HALVES")
     assert a.mixed.dpi1 is None and "dpi1_rotation" in a.mixed.flags
     assert "rot_core_unstable" in a.mixed.flags
     rivals = a.mixed.dpi1_rivals
@@ -553,10 +572,6 @@ def test_a_splitting_found_at_half_its_value_is_recovered_at_twice_it(tmp_path):
     # 5 %; the secondary-clump region of ΔΠ1 ≈ 140–260 s (Mosser et al. 2014, from memory).
     from seismo.mixed.types import _MIN_SCORE_SCAN
 
-    a = _analyze_benchmark_star(
-        tmp_path, "secondary-clump", 2010061673, id="T-ROTALIAS", numax=62.31754720042554,
-        dnu=5.37214037294218, dpi1=203.79612947827312, q=0.23672131855950448,
-        rot_core=0.43136441786531066, inclination=47.09497103775388,
-        teff=4997.232467716704, amplitude=37.30415755143679, white_noise=45.7898907298543)
+    a = _analyze_benchmark_star(tmp_path, "T-ROTALIAS")
     _assert_found_by(a.mixed, "scan", _MIN_SCORE_SCAN, 203.80, 0.4314)
     assert a.result.state == "2CL"
