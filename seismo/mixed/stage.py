@@ -200,7 +200,9 @@ def measure_mixed_modes(
        few chance alignments of a short list already reach the score
        thresholds. When ΔΠ1 is withheld only because solutions of different
        ΔΠ1 tie within the margin, their values are returned as
-       ``dpi1_rivals`` (for `seismo.state.classify_state`).
+       ``dpi1_rivals`` (for `seismo.state.classify_state`), and the flags are
+       those of the tie (``dpi1_ambiguous``, or ``dpi1_rotation`` when a tied
+       solution rotates).
     9. Second pass, only when steps 2–8 give neither a ΔΠ1 nor tied solutions:
        steps 3–8 on the deeper peak list above −ln(`_DEEP_FALSE_ALARM`/N) (about
        eight noise peaks), against the higher thresholds `_DEEP` (two passes, twice
@@ -424,8 +426,14 @@ def _solve(freq: np.ndarray, snr: np.ndarray, df: float, inputs: dict[str, Any],
     peaks = DipolePeaks(freq, snr, win.m if win.rotating else np.zeros(freq.size, np.int64),
                         win.inlier, win.zeta)
     if flags:
+        rivals = _rivals(pool, model, lo, hi, inputs)
+        if rivals:
+            # Only the tie withholds ΔΠ1: the flags say that, not why the ordinary
+            # winner (perhaps a weaker solution) failed.
+            top, top_min = max(pool, key=lambda entry: entry[0].score)
+            flags = _winner_flags(top, [f for f, _ in pool], top_min, freq)
         return PeriodSpacing(None, None, None, None, tuple(dict.fromkeys(flags)), peaks,
-                             candidates, inputs, _rivals(pool, model, lo, hi, inputs))
+                             candidates, inputs, rivals)
 
     err = np.sqrt(np.diag(win.cov))
     dpi1, q, eps_g, _, rot = win.params
