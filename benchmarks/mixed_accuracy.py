@@ -151,6 +151,15 @@ def summary(rows: list[dict], label: str) -> None:
     if rot:
         print(f"{'core rotation reported (of rotating stars)':46s}{len(rot_found):>9d} of "
               f"{len(rot):<4d}")
+    if rot_found:
+        close = sum(abs(r["rot_core"][0] / r["rot_true"] - 1) <= 0.05 for r in rot_found)
+        print(f"{'core rotation within 5% (of reported)':46s}{close:>9d} of "
+              f"{len(rot_found):<4d}")
+    still = [r for r in rows if r["rot_true"] == 0]
+    if still:
+        false_rot = sum(1 for r in still if r["rot_core"])
+        print(f"{'core rotation reported for non-rotating stars':46s}{false_rot:>9d} of "
+              f"{len(still):<4d}")
     print(f"{'state accuracy (unknown counts as wrong)':46s}{np.mean(correct):16.0%}"
           f"{'>= 95%':>12s}")
     print(f"{'state given (not unknown)':46s}{int(known.sum()):>9d} of {len(rows):<4d}")

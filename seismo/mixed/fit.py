@@ -128,7 +128,11 @@ class _Model:
 
         Per peak, log(½ + ½ s w_m g), with g the Gaussian density of the
         residual, s the local mode spacing ζ ν² ΔΠ1 (the background density
-        is 1/s) and w_m the fraction of peaks of that azimuthal order.
+        is 1/s) and w_m the fraction of peaks of that azimuthal order, the
+        same for m = +1 and m = −1: at any inclination i both have visibility
+        ½ sin²i (m = 0: cos²i; Gizon & Solanki 2003, ApJ 589, 1009, from
+        memory). Free weights for each side would reward a one-sided doublet,
+        the pattern of a splitting read at half or twice its value.
         """
         res, z = self.residual(p, m)
         sig = self.sigma(z)
@@ -139,6 +143,8 @@ class _Model:
         if rotating:
             counts = np.array([np.sum(inlier & (m == k)) for k in (-1, 0, 1)], dtype=float)
             frac = (counts + 1.0) / (counts.sum() + 3.0)
+            # m = ±1 have the same visibility at any inclination (Gizon & Solanki 2003).
+            frac[0] = frac[2] = 0.5 * (frac[0] + frac[2])
             w = frac[m + 1]
         ll = np.sum(np.log(0.5 + 0.5 * np.minimum(spacing * w * g, 1e6)))
         return float(ll), inlier, sig, z

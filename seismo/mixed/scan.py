@@ -122,6 +122,8 @@ def _block_scores(model: _Model, dpi1: np.ndarray, numax: float
             inlier = x < 3.0
             counts = np.stack([np.sum(inlier & (m == j), axis=-1) for j in range(3)], -1)
             frac = ((counts + 1.0) / (counts.sum(-1, keepdims=True) + 3.0)).astype(np.float32)
+            # m = ±1 equally visible, as in fit._Model.score.
+            frac[..., 0] = frac[..., 2] = 0.5 * (frac[..., 0] + frac[..., 2])
             w = np.take_along_axis(frac, m.astype(np.intp), -1)
             w[:, :, still, :] = 1.0
             a = kk * w * np.exp(np.float32(-0.5) * x * x) * norm
@@ -173,14 +175,20 @@ def _scan_fits(model: _Model, numax: float) -> list[_Fit]:
         trials = [_refine(model, np.array([dpi1, q, eps, 0.0, k * rot]), bool(cycles > 0),
                           _M_ROUNDS_EXTENDED) for k in factors]
         fits.append(max(trials, key=lambda f: f.score))
-    # One-cycle aliases of the best refined solution (the grid may favour the wrong
-    # one of a pair): a fine local scan, ±1.5 resolution elements in ΔΠ1 by
-    # quarters × 16 phases ε_g (the refinement's basin in ε_g is about ±0.1), and
-    # the best start on each side refined.
+    # One-cycle aliases of the best refined solution, and of the best rotating one when
+    # the best does not rotate (the grid may favour the wrong one of a pair, and a
+    # still solution and a rotating one a cycle apart may each hold half the truth):
+    # a fine local scan, ±1.5 resolution elements in ΔΠ1 by quarters × 16 phases ε_g
+    # (the refinement's basin in ε_g is about ±0.1), and the best start on each side
+    # refined.
     best = max(fits, key=lambda f: f.score)
-    for side in (-1.0, 1.0):  # two sides
-        starts = _local_starts(model, best, side * np.arange(2, 7), 1.0)
-        fits.append(_refine(model, starts[0], best.rotating, _M_ROUNDS_EXTENDED))
+    bases = [best]
+    if not best.rotating and any(f.rotating for f in fits):
+        bases.append(max((f for f in fits if f.rotating), key=lambda f: f.score))
+    for base in bases:  # one or two solutions
+        for side in (-1.0, 1.0):  # two sides
+            starts = _local_starts(model, base, side * np.arange(2, 7), 1.0)
+            fits.append(_refine(model, starts[0], base.rotating, _M_ROUNDS_EXTENDED))
     # Twice the splitting of the best rotating solution: the grid steps and the
     # refinement can settle on half the true splitting with ΔΠ1 and ε_g slightly off,
     # where the factor-2 start from the grid point above misses the true basin. The

@@ -30,6 +30,16 @@ from .setup import (
     _find_peaks,
     _validate,
 )
+from .splitting import (
+    _better_alias,
+    _halves_agree,
+    _holds_without_rotation,
+    _split_rotation,
+    _splitting_alternatives,
+    _splitting_ties,
+    _tie_errors,
+    _unstable_rivals,
+)
 from .types import (
     _AMBIGUITY_MARGIN,
     _DEEP,
@@ -162,7 +172,14 @@ def measure_mixed_modes(
        uniform background); rotation is kept if it improves it by more than
        12. Errors come from the Jacobian of the inliers, scaled by the
        reduced χ² when it exceeds 1.
-    5. A rotating winner is refitted on the peaks below and above ν_max
+    5. A rotating winner is refitted without rotation and at the aliases of
+       its splitting δν (δν/2, 2δν, δν ± ν_max²ΔΠ1; `seismo.mixed.splitting`);
+       an alias that scores higher replaces it. If the fit without rotation
+       or an alias with another splitting comes within `_SPLITTING_MARGIN` of
+       its score, δν_rot,core is not reported (``rot_core_ambiguous``) and the
+       errors of ΔΠ1, q and ε_g are widened to cover those fits (ΔΠ1 is
+       withheld, ``dpi1_rotation``, if they differ by more than 1 %).
+       Otherwise the winner is refitted on the peaks below and above ν_max
        separately; if the two splittings disagree by more than 3σ,
        δν_rot,core is withdrawn (``rot_core_unstable``). ΔΠ1 then stays only
        if the fit without rotation, started from the winner, passes the same
@@ -415,6 +432,19 @@ def _solve(freq: np.ndarray, snr: np.ndarray, df: float, inputs: dict[str, Any],
     top, top_min = max(pool, key=lambda entry: entry[0].score)
     inputs.update(top_score=float(top.score), top_min_score=float(top_min),
                   top_peak_equivalents=float(top.peak_equivalents(freq)))
+    ties: list[_Fit] = []
+    if not flags and win.rotating:
+        # The splitting's aliases and the fit without rotation: a better alias replaces
+        # the winner; those within the margin make the splitting ambiguous.
+        alternatives = _splitting_alternatives(model, win, numax)
+        better = _better_alias(win, alternatives)
+        if better is not None and not _winner_flags(better, [], levels.score, freq):
+            alternatives = [f for f in alternatives if f is not better] + [win]
+            win = better
+            inputs["splitting_alias_win"] = True
+        ties = _splitting_ties(win, alternatives)
+        inputs["splitting_ties"] = [[float(f.params[0]), float(f.params[4]) * f.rotating,
+                                     float(f.score)] for f in ties]
     n_in = int(np.sum(win.inlier))
 
     nu_p = model.nu_p(win.params[3])
@@ -438,7 +468,16 @@ def _solve(freq: np.ndarray, snr: np.ndarray, df: float, inputs: dict[str, Any],
     err = np.sqrt(np.diag(win.cov))
     dpi1, q, eps_g, _, rot = win.params
     rot_core = None
-    if win.rotating:
+    if ties:
+        flags.append("rot_core_ambiguous")
+        if any(abs(f.params[0] / dpi1 - 1.0) > 0.01 for f in ties):
+            # Beyond an alias tie of ΔΠ1: withheld, the values kept for the state.
+            rivals = tuple(Measurement(float(f.params[0]), float(err[0])) for f in [win, *ties])
+            inputs["dpi1_rivals"] = [[m.value, m.error] for m in rivals]
+            return PeriodSpacing(None, None, None, None, ("dpi1_rotation", *flags), peaks,
+                                 candidates, inputs, rivals)
+        err = _tie_errors(win, err, ties)
+    elif win.rotating:
         halves = _split_rotation(model, win, numax)
         inputs["rot_halves"] = halves
         if halves is not None and not _halves_agree(halves, rot, err[4]):
@@ -574,72 +613,12 @@ def _extended_fits(model: _Model, freq: np.ndarray, nu_p: np.ndarray, numax: flo
                     _M_ROUNDS_EXTENDED) for i in picks]  # a loop over a few candidates
 
 
-def _split_rotation(model: _Model, win: _Fit, numax: float) -> list[list[float]] | None:
-    """Refit the rotating solution on the peaks below and above numax separately.
-
-    A splitting that is real is found by both halves; one that only fits the
-    m-assignment of an alias (splittings close to the mode spacing, or slow
-    clump rotation blended with the linewidths) moves between them.
-    Returns ``[[rot, err], [rot, err]]`` or None when a half has too few peaks.
-    """
-    out = []
-    for half in (model.freq < numax, model.freq >= numax):
-        if half.sum() < 2 * _MIN_INLIERS:
-            return None
-        sub = _Model(model.freq[half], model.dnu, model.numax, model.eps, model.alpha,
-                     model.d01, model.orders, model.df)
-        fit = _refine(sub, win.params, True)
-        if fit.cov is None:
-            return None
-        out.append([float(fit.params[4]), float(np.sqrt(fit.cov[4, 4]))])
-    return out
 
 
-def _holds_without_rotation(model: _Model, win: _Fit, dpi1_error: float,
-                            inputs: dict[str, Any], min_score: float) -> bool:
-    """Whether the ΔΠ1 of a rotating fit whose splitting is unstable stands without it.
-
-    The rotating solution is refitted with no splitting (every peak m = 0). Its
-    ΔΠ1 is kept only if that fit alone passes ``min_score`` (the ordinary threshold
-    of the pass) and agrees with the
-    rotating ΔΠ1 within 3 combined sigmas; otherwise the period spacing rests on
-    an m-assignment the split-half check has rejected. ``inputs`` gets
-    ``dpi1_without_rotation`` = [ΔΠ1 (s), error (s), score].
-    """
-    still = _refine(model, win.params, False)
-    if still.cov is None:
-        inputs["dpi1_without_rotation"] = [float(still.params[0]), float("nan"), still.score]
-        return False
-    still_error = float(np.sqrt(still.cov[0, 0]))
-    inputs["dpi1_without_rotation"] = [float(still.params[0]), still_error, still.score]
-    tolerance = 3.0 * float(np.hypot(still_error, dpi1_error))
-    return bool(still.score >= min_score
-                and abs(still.params[0] - win.params[0]) <= tolerance)
 
 
-def _unstable_rivals(win: _Fit, dpi1_error: float, inputs: dict[str, Any]
-                     ) -> tuple[Measurement, ...]:
-    """ΔΠ1 (s) of a significant rotating winner withdrawn by the split-half check, and
-    of its refit without rotation (`_holds_without_rotation`), for the state.
-
-    The two bracket the period spacing when only the m-assignment is in doubt: the
-    aliases such an assignment makes lie a resolution element (about 1 %) away, the
-    state regions a factor of two to three apart. A refit without a covariance gets
-    a 1 % error. Recorded in ``inputs["dpi1_rivals"]``.
-    """
-    value, error, _ = inputs["dpi1_without_rotation"]
-    still_error = error if np.isfinite(error) else 0.01 * value
-    out = (Measurement(float(win.params[0]), float(dpi1_error)),
-           Measurement(float(value), float(still_error)))
-    inputs["dpi1_rivals"] = [[m.value, m.error] for m in out]
-    return out
 
 
-def _halves_agree(halves: list[list[float]], rot: float, err: float) -> bool:
-    """Both halves within 3 combined sigmas of each other and of the whole."""
-    (r1, e1), (r2, e2) = halves
-    tolerance = 3.0 * float(np.hypot(e1, e2))
-    return abs(r1 - r2) <= tolerance and max(abs(r1 - rot), abs(r2 - rot)) <= tolerance
 
 
 def _model_residuals(freq: np.ndarray, fit: _Fit, nu_p: np.ndarray, dnu: float, lo: float,
