@@ -172,7 +172,7 @@ def summary(rows: list[dict], label: str) -> None:
 
 def null_calibration(n_shuffles: int, seed: int, lengths: list[int | None],
                      names: list[str], deep: bool = False) -> None:
-    from seismo.mixed.stage import _shuffled_both
+    from seismo.mixed.calibration import _shuffled_both
     from seismo.mixed.types import _DEEP, _FIRST, _MIN_PEAK_EQUIVALENTS
 
     levels = _DEEP if deep else _FIRST

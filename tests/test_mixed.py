@@ -502,7 +502,7 @@ def test_shuffled_peak_lists_stay_below_the_score_threshold():
     # the peaks of a demo star moved to random dipole-region bins carry no period
     # spacing; the whole search must not find one that passes. Solutions of the extended
     # rotation search have their own, higher threshold _MIN_SCORE_EXTENDED.
-    from seismo.mixed.stage import _shuffled_both, _shuffled_scores
+    from seismo.mixed.calibration import _shuffled_both, _shuffled_scores
     from seismo.mixed.types import _MIN_SCORE, _MIN_SCORE_EXTENDED, _MIN_SCORE_SCAN
 
     a = analyze(DEMO / "HLD-0104.fits")
@@ -525,7 +525,7 @@ def test_short_shuffled_lists_of_a_high_numax_star_give_no_dpi1():
     # that one does and the rule is exercised), and no shuffle may give a ΔΠ1: the
     # peak-equivalent rule stops it. Common practice: a permutation test of the detection
     # statistic.
-    from seismo.mixed.stage import _shuffled_both
+    from seismo.mixed.calibration import _shuffled_both
     from seismo.mixed.types import _MIN_PEAK_EQUIVALENTS
 
     a = analyze(DEMO / "HLD-0102.fits")
@@ -564,7 +564,7 @@ def test_shuffled_deep_peak_lists_give_no_dpi1():
     # --deep): the deeper peak list of a demo star moved to random dipole-region bins
     # carries no period spacing; no shuffle may reach the deep thresholds. Common
     # practice: a permutation test of the detection statistic.
-    from seismo.mixed.stage import _shuffled_both
+    from seismo.mixed.calibration import _shuffled_both
     from seismo.mixed.types import _DEEP
 
     a = analyze(DEMO / "HLD-0104.fits")

@@ -18,38 +18,47 @@ import numpy as np
 
 from ..results import Measurement
 from .fit import _UPPER, _Fit, _Model, _refine
-from .types import _M_ROUNDS_EXTENDED, _MIN_INLIERS, _SPLITTING_MARGIN
+from .types import _MIN_INLIERS, _SPLITTING_MARGIN
 
 __all__: list[str] = []
 
-# Starts refined per alias of the splitting.
-_ALIAS_STARTS = 3
+# Phases ε_g tried per alias start (the refinement's basin in ε_g is about ±0.1,
+# scan._local_starts) and starts refined per alias of the splitting.
+_ALIAS_PHASES = 8
+_ALIAS_STARTS = 2
 
 
 def _splitting_alternatives(model: _Model, win: _Fit, numax: float) -> list[_Fit]:
     """Refits of a rotating solution without rotation and at the aliases of its splitting.
 
     With δν the fitted splitting and g = ν_max²ΔΠ1 the g-mode spacing at ν_max (μHz),
-    the aliases tried are δν/2, 2δν, δν + g and |δν − g|. For each, sixteen phases ε_g
-    are scored at once (the alias moves the m = 0 ridge as well) and the best
-    `_ALIAS_STARTS` starts are refined with the azimuthal orders re-assigned (the
-    quick score of a start does not always rank the basins right). Returns the fit without rotation
-    first, then one fit per alias (a few tens of milliseconds in all).
+    the aliases tried are δν/2, 2δν, δν + g and |δν − g|. Each moves the m = 0 ridge as
+    well, and may pair with a one-cycle alias of ΔΠ1, so for each the starts are
+    `_ALIAS_PHASES` phases ε_g at ΔΠ1 and at ΔΠ1 moved by one resolution element
+    either way (the stretched periods of the peaks span N cycles of ΔΠ1, so ln ΔΠ1
+    resolves to 1/N); they are scored at once and the best `_ALIAS_STARTS` refined
+    with the azimuthal orders re-assigned (the quick score of a start does not always
+    rank the basins right). Returns the fit without rotation first, then one fit per
+    alias (tens of milliseconds in all).
     """
     rot = float(win.params[4])
-    spacing = numax**2 * float(win.params[0]) * 1e-6
+    dpi1 = float(win.params[0])
+    spacing = numax**2 * dpi1 * 1e-6
+    period = 1e6 / model.freq
+    element = dpi1 / (float(period.max() - period.min()) + model.orders.size * dpi1)
     out = [_refine(model, win.params, False)]
     trials = (0.5 * rot, 2.0 * rot, rot + spacing, abs(rot - spacing))
     for trial in trials:  # a loop over four aliases
         if not 2.0 * model.df < trial <= _UPPER[4]:
             continue
         starts = []
-        for eps_g in np.arange(16) / 16.0:  # a loop over cheap evaluations
-            p = win.params.copy()
-            p[2], p[4] = eps_g, trial
-            starts.append((model.score(p, model.best_m(p), True)[0], p))
+        for shift in (-1.0, 0.0, 1.0):  # a loop over cheap evaluations
+            for eps_g in np.arange(_ALIAS_PHASES) / _ALIAS_PHASES:
+                p = win.params.copy()
+                p[0], p[2], p[4] = dpi1 * np.exp(shift * element), eps_g, trial
+                starts.append((model.score(p, model.best_m(p), True)[0], p))
         starts.sort(key=lambda item: -item[0])
-        fits = [_refine(model, p, True, _M_ROUNDS_EXTENDED) for _, p in starts[:_ALIAS_STARTS]]
+        fits = [_refine(model, p, True) for _, p in starts[:_ALIAS_STARTS]]
         out.append(max(fits, key=lambda f: f.score))
     return out
 
@@ -90,6 +99,7 @@ def _tie_errors(win: _Fit, err: np.ndarray, ties: list[_Fit]) -> np.ndarray:
     phase = max(abs(float((f.params[2] - win.params[2] + 0.5) % 1.0 - 0.5)) for f in ties)
     out[2] = float(np.hypot(out[2], phase))
     return out
+
 
 def _split_rotation(model: _Model, win: _Fit, numax: float) -> list[list[float]] | None:
     """Refit the rotating solution on the peaks below and above numax separately.

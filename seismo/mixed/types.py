@@ -80,14 +80,14 @@ _AMBIGUITY_MARGIN = 8.0
 # oscillating demo stars at false_alarm 0.9, with the peaks moved to random
 # dipole-region bins (48 shuffles), never scored above 18.3; real lists score
 # 28–160. Re-measured with `benchmarks/mixed_accuracy.py --null 60 --seed 5`
-# (stage._shuffled_scores, 240 shuffles): largest 20.2, none at or above 22.
+# (calibration._shuffled_scores, 240 shuffles): largest 20.2, none at or above 22.
 _MIN_SCORE = 22.0
 # A solution found only by the extended search (splitting of at least 0.7
 # cycle of ΔΠ1 at ν_max) must reach this score and beat the best solution of
 # the ordinary search by `_AMBIGUITY_MARGIN`; otherwise the extended solutions
 # are ignored (they cannot make a clear ordinary winner ambiguous). Calibration
 # (`benchmarks/mixed_accuracy.py --null 120 --seed 5`, 480 shuffles of the four
-# demo stars' peak lists, stage._shuffled_both): largest extended-only score
+# demo stars' peak lists, calibration._shuffled_both): largest extended-only score
 # 18.5, none at or above 30; `--null 120 --seed 6`: 19.9; `--null 60 --seed 5`
 # (240): 22.4. Real extended winners: MIX-031 40.0, the test star of test_mixed
 # (clump, splitting = ν_max²ΔΠ1, seed 122) 37.0. (The ordinary search in the
@@ -135,7 +135,7 @@ _FIRST = _Levels(_MIN_SCORE, _MIN_SCORE_EXTENDED, _MIN_SCORE_SCAN)
 # 5–8, below the first threshold (8–8.5); a list with them can reach the score
 # thresholds when the first cannot (MIX-040 of the 42-star benchmark: 17 peaks,
 # best 17.1; 42 deep peaks, 29.7). Its thresholds are 4 above the first ones (two
-# passes: twice the trials). Calibration (2026-12-02, stage._shuffled_both with
+# passes: twice the trials). Calibration (2026-12-02, calibration._shuffled_both with
 # deep=True): 240 shuffled deep lists of the four demo stars (whole lists and cut
 # to 30 peaks) scored at most 18.8 (ordinary), 19.4 (extended), 24.3 (scan);
 # `benchmarks/mixed_accuracy.py --null 30 --deep --lengths 15,20,24,28 --seed 3
