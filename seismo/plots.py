@@ -412,9 +412,15 @@ def _draw_period_echelle(ax: Any, mixed: Any) -> None:
             ax.plot(model_x[sel], data["model_freq"][sel], ".", color=colour, ms=2.5,
                     alpha=0.45, label="fitted ridge" + order)
         sel = data["peak_m"] == m
-        if sel.any():
+        if sel.any() and (rotating or m == 0):
             ax.plot(peak_x[sel], data["peak_freq"][sel], "o", mfc="none", mec=colour,
                     ms=5, label="peaks" + order)
+    withheld = not rotating and bool(np.any(data["peak_m"] != 0))
+    if withheld:
+        # A splitting was fitted but not reported: its m = ±1 peaks stay off the ridge.
+        sel = data["peak_m"] != 0
+        ax.plot(peak_x[sel], data["peak_freq"][sel], "o", mfc="none", mec="#9ca3af", ms=5,
+                label="peaks set m = ±1 by the withheld splitting")
     ax.set_xlim(0, dpi1)
     frame = "observed components" if rotating else "m = 0 ridge centred"
     ax.set_xlabel(f"Stretched period modulo ΔΠ1 = {dpi1:.4g} s ({frame}) (s)")
@@ -423,6 +429,8 @@ def _draw_period_echelle(ax: Any, mixed: Any) -> None:
     title = f"Period échelle of the dipole modes (q = {q:.3g}"
     if rotating:
         title += f", δν_rot,core = {mixed.rot_core.value:.3g} μHz"
+    elif withheld:
+        title += ", core splitting withheld"
     ax.set_title(title + ")", fontsize=10)
     ax.legend(loc="upper right", fontsize=7, frameon=True, ncol=2)
 

@@ -62,3 +62,31 @@ def test_state_diagram_marks_candidate_dpi1_values_without_dpi1():
     assert [298.7, 295.2] in ys
     assert any("candidate" in t.get_text() for t in ax.get_legend().get_texts())
     plt.close(fig)
+
+
+def test_period_echelle_says_when_the_splitting_is_withheld():
+    # Common practice: a value that is not reported is not drawn as if it were. Peaks that
+    # a withheld splitting had set to m = ±1 are shown apart, and the title says so.
+    import numpy as np
+
+    from seismo.mixed import DipolePeaks, PeriodSpacing
+    from seismo.plots import _draw_period_echelle, agg_pyplot
+    from seismo.relations import universal_pattern
+    from seismo.results import Measurement
+
+    nu_p = universal_pattern(np.arange(3, 10), 1, 4.0, 30.0, 0.9, 0.0)
+    freq = np.array([25.1, 27.3, 29.8, 31.2, 33.9])
+    m = np.array([0, 1, 0, -1, 0])
+    peaks = DipolePeaks(freq, np.full(5, 10.0), m, np.ones(5, bool), np.full(5, 0.9))
+    inputs = {"nu_p": list(nu_p), "window": (20.0, 40.0), "dnu": 4.0}
+    mixed = PeriodSpacing(Measurement(80.0, 0.1), Measurement(0.15, 0.01),
+                          Measurement(0.28, 0.02), None, ("rot_core_ambiguous",), peaks,
+                          [], inputs)
+    plt = agg_pyplot()
+    fig, ax = plt.subplots()
+    _draw_period_echelle(ax, mixed)
+    assert "splitting withheld" in ax.get_title()
+    labels = [t.get_text() for t in ax.get_legend().get_texts()]
+    assert any("withheld" in label for label in labels)
+    assert not any("m=+1" in label for label in labels)
+    plt.close(fig)
