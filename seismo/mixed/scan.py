@@ -203,17 +203,17 @@ def _scan_fits(model: _Model, numax: float) -> list[_Fit]:
     return fits
 
 
-def _local_starts(model: _Model, fit: _Fit, quarters: np.ndarray, rot_factor: float
-                  ) -> list[np.ndarray]:
+def _local_starts(model: _Model, fit: _Fit, quarters: np.ndarray, rot_factor: float,
+                  phases: int = 16) -> list[np.ndarray]:
     """Starts around ``fit``: ΔΠ1 moved by ``quarters`` quarter resolution elements,
-    16 phases ε_g, the splitting times ``rot_factor``; best mixture score first."""
+    ``phases`` phases ε_g, the splitting times ``rot_factor``; best mixture score first."""
     d0, q0, _, shift0, rot0 = fit.params
     period = 1e6 / model.freq
     step = d0 / (float(period.max() - period.min()) + model.orders.size * d0)
     trials = [np.array([d0 * np.exp(j * step / 4.0), q0, e, shift0, rot0 * rot_factor])
-              for j in quarters for e in np.arange(16) / 16.0]
+              for j in quarters for e in np.arange(phases) / phases]
     quick = []
-    for t in trials:  # a loop over cheap evaluations (16 per ΔΠ1 step)
+    for t in trials:  # a loop over cheap evaluations (``phases`` per ΔΠ1 step)
         m = model.best_m(t) if fit.rotating else np.zeros(model.freq.size, np.int64)
         quick.append(model.score(t, m, fit.rotating)[0])
     return [trials[k] for k in np.argsort(-np.asarray(quick), kind="stable")]

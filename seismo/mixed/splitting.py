@@ -18,6 +18,7 @@ import numpy as np
 
 from ..results import Measurement
 from .fit import _UPPER, _Fit, _Model, _refine
+from .scan import _local_starts
 from .types import _MIN_INLIERS, _SPLITTING_MARGIN
 
 __all__: list[str] = []
@@ -35,30 +36,23 @@ def _splitting_alternatives(model: _Model, win: _Fit, numax: float) -> list[_Fit
     the aliases tried are δν/2, 2δν, δν + g and |δν − g|. Each moves the m = 0 ridge as
     well, and may pair with a one-cycle alias of ΔΠ1, so for each the starts are
     `_ALIAS_PHASES` phases ε_g at ΔΠ1 and at ΔΠ1 moved by one resolution element
-    either way (the stretched periods of the peaks span N cycles of ΔΠ1, so ln ΔΠ1
-    resolves to 1/N); they are scored at once and the best `_ALIAS_STARTS` refined
+    either way (`scan._local_starts`: the stretched periods of the peaks span N
+    cycles of ΔΠ1, so ln ΔΠ1 resolves to 1/N); they are scored and the best
+    `_ALIAS_STARTS` refined
     with the azimuthal orders re-assigned (the quick score of a start does not always
     rank the basins right). Returns the fit without rotation first, then one fit per
     alias (tens of milliseconds in all).
     """
     rot = float(win.params[4])
-    dpi1 = float(win.params[0])
-    spacing = numax**2 * dpi1 * 1e-6
-    period = 1e6 / model.freq
-    element = dpi1 / (float(period.max() - period.min()) + model.orders.size * dpi1)
+    spacing = numax**2 * float(win.params[0]) * 1e-6
     out = [_refine(model, win.params, False)]
     trials = (0.5 * rot, 2.0 * rot, rot + spacing, abs(rot - spacing))
     for trial in trials:  # a loop over four aliases
         if not 2.0 * model.df < trial <= _UPPER[4]:
             continue
-        starts = []
-        for shift in (-1.0, 0.0, 1.0):  # a loop over cheap evaluations
-            for eps_g in np.arange(_ALIAS_PHASES) / _ALIAS_PHASES:
-                p = win.params.copy()
-                p[0], p[2], p[4] = dpi1 * np.exp(shift * element), eps_g, trial
-                starts.append((model.score(p, model.best_m(p), True)[0], p))
-        starts.sort(key=lambda item: -item[0])
-        fits = [_refine(model, p, True) for _, p in starts[:_ALIAS_STARTS]]
+        # ΔΠ1 one resolution element (four quarters) to either side, and at the winner's.
+        starts = _local_starts(model, win, np.array([-4, 0, 4]), trial / rot, _ALIAS_PHASES)
+        fits = [_refine(model, p, True) for p in starts[:_ALIAS_STARTS]]
         out.append(max(fits, key=lambda f: f.score))
     return out
 

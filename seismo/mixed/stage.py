@@ -169,9 +169,10 @@ def measure_mixed_modes(
        The residual phase τ/ΔΠ1 − ε_g vanishes (mod 1) exactly on the roots
        computed by `seismo.relations.mixed_mode_frequencies`. Candidates are
        compared by a mixture log-likelihood of all peaks (mixed mode or
-       uniform background); rotation is kept if it improves it by more than
-       12. Errors come from the Jacobian of the inliers, scaled by the
-       reduced χ² when it exceeds 1.
+       uniform background); rotation is kept if it explains at least
+       `_ROTATION_GAIN` (and 15 %) more peaks without lowering it by more than
+       `_ROTATION_SCORE_LOSS` (fit._refine_candidate). Errors come from the
+       Jacobian of the inliers, scaled by the reduced χ² when it exceeds 1.
     5. A rotating winner is refitted without rotation and at the aliases of
        its splitting δν (δν/2, 2δν, δν ± ν_max²ΔΠ1, each also with ΔΠ1 moved
        by one resolution element; `seismo.mixed.splitting`);
@@ -398,7 +399,6 @@ def _solve(freq: np.ndarray, snr: np.ndarray, df: float, inputs: dict[str, Any],
         if rivals:
             # Only the tie withholds ΔΠ1: the flags say that, not why the ordinary
             # winner (perhaps a weaker solution) failed.
-            top, top_min = max(pool, key=lambda entry: entry[0].score)
             flags = _winner_flags(top, [f for f, _ in pool], top_min, freq)
         return PeriodSpacing(None, None, None, None, tuple(dict.fromkeys(flags)), peaks,
                              candidates, inputs, rivals)
@@ -549,14 +549,6 @@ def _extended_fits(model: _Model, freq: np.ndarray, nu_p: np.ndarray, numax: flo
     picks = list(dict.fromkeys([*aliased.tolist(), *picks.tolist()]))
     return [_refine(model, _start(model, grid[i], hyp[best[i]], numax), True,
                     _M_ROUNDS_EXTENDED) for i in picks]  # a loop over a few candidates
-
-
-
-
-
-
-
-
 
 
 def _model_residuals(freq: np.ndarray, fit: _Fit, nu_p: np.ndarray, dnu: float, lo: float,

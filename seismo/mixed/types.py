@@ -129,17 +129,19 @@ class _Levels:
 
 
 _FIRST = _Levels(_MIN_SCORE, _MIN_SCORE_EXTENDED, _MIN_SCORE_SCAN)
-# Second pass (stage.measure_mixed_modes), only when the first list gives neither
-# a ΔΠ1 nor tied solutions: peaks down to the S/B that admits about this many noise
-# peaks over the dipole region. Faint g-dominated modes of clump stars sit at S/B
-# 5–8, below the first threshold (8–8.5); a list with them can reach the score
-# thresholds when the first cannot (MIX-040 of the 42-star benchmark: 17 peaks,
-# best 17.1; 42 deep peaks, 29.7). Its thresholds are 4 above the first ones (two
-# passes: twice the trials). Calibration (2026-12-02, calibration._shuffled_both with
-# deep=True): 240 shuffled deep lists of the four demo stars (whole lists and cut
-# to 30 peaks) scored at most 18.8 (ordinary), 19.4 (extended), 24.3 (scan);
-# `benchmarks/mixed_accuracy.py --null 30 --deep --lengths 15,20,24,28 --seed 3
-# --demo HLD-0102.fits,HLD-0104.fits` (240): see docs/accuracy.md.
+# Second pass (stage.measure_mixed_modes), only when the first list gives neither a
+# ΔΠ1 nor tied solutions: peaks down to the S/B that admits about this many noise
+# peaks over the dipole region. Faint g-dominated modes of clump stars sit at S/B 5–8,
+# below the first threshold (8–8.5); a list with them can reach the score thresholds
+# when the first cannot (MIX-076 of `benchmarks/mixed_accuracy.py --stars 84 --seed
+# 13`, the injection test of this pass; MIX-040 of the 42-star benchmark was one until
+# the m = ±1 weights were made equal, docs/accuracy.md). Its thresholds are 4 above
+# the first ones (two passes: twice the trials). Calibration (2026-12-02,
+# calibration._shuffled_both with deep=True): 240 shuffled deep lists of the four demo
+# stars (whole lists and cut to 30 peaks) scored at most 18.8 (ordinary), 19.4
+# (extended), 24.3 (scan); `benchmarks/mixed_accuracy.py --null 30 --deep --lengths
+# 15,20,24,28 --seed 3 --demo HLD-0102.fits,HLD-0104.fits` (240): see
+# docs/accuracy.md.
 _DEEP_FALSE_ALARM = 8.0
 _DEEP = _Levels(_MIN_SCORE + 4.0, _MIN_SCORE_EXTENDED + 4.0, _MIN_SCORE_SCAN + 4.0)
 # Rotation is kept when it explains this many more peaks (count and fraction
