@@ -43,6 +43,7 @@ from pathlib import Path
 
 import numpy as np
 
+from seismo import relations
 from seismo.config import StarInputs
 from seismo.pipeline import analyze
 from seismo.simulate import OBSERVATIONS, PRESETS, simulate, write_simulation
@@ -54,6 +55,11 @@ def dnu_for_mass(numax: float, mass: float, teff: float) -> float:
     """Δν that gives ``mass`` through the scaling relations (Kjeldsen & Bedding 1995)."""
     x, t = numax / SUN[0], teff / SUN[2]
     return float(SUN[1] * (x**3 * t**1.5 / mass) ** 0.25)
+
+
+def scaling_mass(numax: float, dnu: float, teff: float) -> float:
+    """Mass of the scaling relations (Kjeldsen & Bedding 1995), M☉: the truth label."""
+    return float((numax / SUN[0]) ** 3 * (dnu / SUN[1]) ** -4 * (teff / SUN[2]) ** 1.5)
 
 
 def sample(n: int, rng: np.random.Generator) -> list:
@@ -80,8 +86,11 @@ def sample(n: int, rng: np.random.Generator) -> list:
             extra = dict(dnu=dnu_for_mass(numax, float(rng.uniform(2.0, 3.0)), teff),
                          dpi1=float(rng.uniform(150, 250)), q=float(rng.uniform(0.2, 0.35)),
                          state="2CL")
+        # The truth mass is that of the scaling relations for the simulated numax and Δν
+        # (the preset's own mass label would not match them).
+        dnu = extra["dnu"] if extra["dnu"] is not None else float(relations.dnu_from_numax(numax))
         stars.append(replace(
-            base, id=f"MIX-{i:03d}", numax=numax, teff=teff,
+            base, id=f"MIX-{i:03d}", numax=numax, teff=teff, mass=scaling_mass(numax, dnu, teff),
             amplitude=amp * 200.0 * (numax / 10.0) ** -0.7,
             white_noise=float(np.exp(rng.uniform(np.log(30.0), np.log(150.0)))),
             rot_core=rot, inclination=float(rng.uniform(20.0, 90.0)), **extra))
