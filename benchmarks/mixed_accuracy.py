@@ -175,6 +175,16 @@ def summary(rows: list[dict], label: str) -> None:
     if known.any():
         print(f"{'state accuracy among those given':46s}{np.mean(correct[known]):16.0%}")
     print(f"{'wrong state with probability > 0.9':46s}{wrong_confident:16d}{'0':>12s}")
+    # The first question behind the labels: RGB or core-helium burning (RC or 2CL), which
+    # an undecided star in the clump overlap answers with `state_core_helium_burning`.
+    phase = [("core-He" if r["state"] in ("RC", "2CL") or "state_core_helium_burning"
+              in r["flags"] else r["state"]) for r in rows]
+    phase_true = ["RGB" if r["state_true"] == "RGB" else "core-He" for r in rows]
+    given = [(p, t) for p, t in zip(phase, phase_true, strict=True) if p != "unknown"]
+    print(f"{'RGB or core-He burning given':46s}{len(given):>9d} of {len(rows):<4d}")
+    if given:
+        print(f"{'RGB or core-He burning right (of given)':46s}"
+              f"{np.mean([p == t for p, t in given]):16.0%}")
     print(f"{'analysis time per star (median)':46s}"
           f"{np.median([r['seconds'] for r in rows]):15.2f}s")
 

@@ -299,6 +299,7 @@ def _rivals_text(r: Any) -> str:
 
 def _human_summary(analysis: Any, figure: Path | None) -> str:
     from .scaling import BIAS_NOTE
+    from .state import describe_state
 
     r = analysis.result
     s = r.details["lightcurve"]
@@ -330,8 +331,7 @@ def _human_summary(analysis: Any, figure: Path | None) -> str:
             f"  q          {_fmt(r.q, '', 3)}",
             f"  ε_g        {_fmt(r.eps_g, '', 3)}",
             f"  core rot.  {_fmt(r.rot_core, ' μHz', 3)}",
-            f"  state      {r.state}" + ("" if r.state_probability is None
-                                         else f" (probability {r.state_probability:.2f})"),
+            f"  state      {describe_state(r.state, r.state_probability, r.flags)}",
         ]
         if r.mass is not None:
             lines.append(f"  note       {BIAS_NOTE}")

@@ -150,6 +150,8 @@ def plot_star(analysis: Any, path: str | os.PathLike[str]) -> Path:
     Path
         The file written.
     """
+    from .state import describe_state
+
     plt = agg_pyplot()
     path = Path(path)
     path.parent.mkdir(parents=True, exist_ok=True)
@@ -200,9 +202,7 @@ def plot_star(analysis: Any, path: str | os.PathLike[str]) -> Path:
             title += f"   Δν {result.dnu.value:.4g} μHz"
         if result.dpi1 is not None:
             title += f"   ΔΠ1 {result.dpi1.value:.4g} s"
-        title += f"   state {result.state}"
-        if result.state_probability is not None:
-            title += f" ({result.state_probability:.2f})"
+        title += f"   state {describe_state(result.state, result.state_probability, result.flags)}"
     else:
         title += "   no oscillations detected"
     fig.suptitle(title, fontsize=13)

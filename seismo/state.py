@@ -20,6 +20,14 @@ closed form (differences of error functions). With equal priors the
 normalised likelihoods are the state probabilities. A state is reported only
 when its probability reaches `REPORT_THRESHOLD`; otherwise ``"unknown"``.
 
+The physical question behind the three labels is first RGB against core-helium
+burning (RC or 2CL), then which clump. Where the clump regions overlap (ΔΠ1 about
+240–260 s, Δν 4–5.5 μHz, mass near 2 M☉) neither clump may reach the threshold
+while together they do: the state stays ``"unknown"`` and the reason
+``state_core_helium_burning`` records that the star is certainly not on the RGB.
+Every undecided star with a probability also names its most likely state
+(``state_most_likely_RC`` etc.).
+
 When ΔΠ1 is withheld because a few solutions a few per cent apart fit about
 equally well, the state is still decided if every one of them gives the same
 state: the regions are a factor of two to three apart in ΔΠ1.
@@ -44,10 +52,13 @@ from scipy.special import erf
 from .errors import OptionError
 from .results import Measurement
 
-__all__ = ["StateRegion", "STATE_REGIONS", "StateResult", "classify_state", "REPORT_THRESHOLD"]
+__all__ = ["StateRegion", "STATE_REGIONS", "StateResult", "classify_state", "REPORT_THRESHOLD",
+           "CORE_HELIUM_BURNING", "describe_state"]
 
 #: Smallest probability at which a state is reported rather than "unknown".
 REPORT_THRESHOLD = 0.9
+#: The core-helium-burning states; together against the RGB when neither alone is certain.
+CORE_HELIUM_BURNING = ("RC", "2CL")
 
 
 @dataclass(frozen=True)
@@ -152,6 +163,18 @@ def _probabilities(d: tuple[float, float], p: tuple[float, float],
     return {k: v / total for k, v in like.items()}
 
 
+def _undecided(probs: list[dict[str, float]]) -> list[str]:
+    """Reasons for an undecided star from the probabilities of its ΔΠ1 value(s): the most
+    likely state (of the least certain value) and, when every value puts at least
+    `REPORT_THRESHOLD` on RC and 2CL together, ``state_core_helium_burning``."""
+    clump = [sum(pr.get(k, 0.0) for k in CORE_HELIUM_BURNING) for pr in probs]
+    worst = min(probs, key=lambda pr: max(pr.values()))
+    out = [f"state_most_likely_{max(worst, key=worst.get)}"]
+    if min(clump) >= REPORT_THRESHOLD:
+        out.append("state_core_helium_burning")
+    return out
+
+
 def classify_state(
     dnu: Measurement | None,
     dpi1: Measurement | None = None,
@@ -209,7 +232,8 @@ def classify_state(
         reasons.append("state_from_dnu_dpi1" + ("_mass" if m is not None else ""))
         if probs[best] >= REPORT_THRESHOLD:
             return StateResult(best, probs[best], probs, tuple(reasons))
-        return StateResult("unknown", probs[best], probs, ("state_ambiguous", *reasons))
+        return StateResult("unknown", probs[best], probs,
+                           ("state_ambiguous", *_undecided([probs]), *reasons))
 
     rivals = [_check(x, "dpi1_rivals item") for x in dpi1_rivals]
     if rivals:
@@ -226,6 +250,8 @@ def classify_state(
                 reasons.append("state_from_dnu_dpi1_rivals" + ("_mass" if m is not None else ""))
                 return StateResult(best, worst[best], worst, tuple(reasons))
         reasons.append("state_dpi1_rivals_disagree")
+        if all(pr is not None for pr in each):
+            reasons += [r for r in _undecided(each) if r == "state_core_helium_burning"]
 
     # No period spacing: use Δν and mass only to exclude states.
     distance = {
@@ -242,5 +268,39 @@ def classify_state(
         probs = {**tails, allowed[0]: 1.0 - sum(tails.values())}
         return StateResult(allowed[0], probs[allowed[0]], probs, tuple(reasons))
     reasons.append("state_not_separable_without_dpi1")
+    if allowed and set(allowed) <= set(CORE_HELIUM_BURNING) \
+            and "state_core_helium_burning" not in reasons:
+        reasons.append("state_core_helium_burning")
     return StateResult("unknown", None, {}, tuple(reasons))
 
+
+
+def describe_state(state: str, probability: float | None, reasons: Sequence[str]) -> str:
+    """One line for people: the state and its probability; for an undecided star, its
+    most likely state and whether it is certainly core-helium burning.
+
+    Parameters
+    ----------
+    state : str
+        ``"RGB"``, ``"RC"``, ``"2CL"`` or ``"unknown"``.
+    probability : float or None
+        `StateResult.probability`.
+    reasons : sequence of str
+        `StateResult.reasons` (or the flags of a result, which include them).
+
+    Returns
+    -------
+    str
+        E.g. ``"RC (probability 0.99)"``, ``"unknown (most likely 2CL, 0.88;
+        core-helium burning: RC or 2CL)"``.
+    """
+    if state != "unknown":
+        return state if probability is None else f"{state} (probability {probability:.2f})"
+    notes = []
+    likely = [r.removeprefix("state_most_likely_") for r in reasons
+              if r.startswith("state_most_likely_")]
+    if likely and probability is not None:
+        notes.append(f"most likely {likely[0]}, {probability:.2f}")
+    if "state_core_helium_burning" in reasons:
+        notes.append("core-helium burning: RC or 2CL")
+    return "unknown" + (f" ({'; '.join(notes)})" if notes else "")

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import json
+from dataclasses import replace
 from pathlib import Path
 
 import numpy as np
@@ -10,7 +11,7 @@ import pytest
 
 from seismo.errors import OptionError
 from seismo.results import Measurement as M
-from seismo.state import STATE_REGIONS, classify_state
+from seismo.state import STATE_REGIONS, classify_state, describe_state
 
 DEMO = Path(__file__).resolve().parent.parent / "demo_lightcurves"
 
@@ -92,6 +93,46 @@ def test_rival_dpi1_values_in_different_regions_give_no_state_from_them():
     overlap = classify_state(M(4.5, 0.01), None, None,
                              dpi1_rivals=[M(250.0, 1.0), M(255.0, 1.0)])
     assert overlap.state == "unknown"
+
+
+def test_clump_overlap_is_undecided_but_core_helium_burning():
+    # ΔΠ1 = 245 s at Δν = 4.8 μHz and 2.0 M☉ lies where the red clump (ΔΠ1 ≈ 250–350 s,
+    # below M_HeF ≈ 1.8–2.2 M☉) and the secondary clump (ΔΠ1 ≈ 150–300 s) meet
+    # (REFERENCES §5d and §10: Mosser et al. 2014, Girardi 1999, from memory), and far
+    # from the RGB (50–100 s): neither clump is certain, core-helium burning is.
+    result = classify_state(M(4.8, 0.01), M(245.0, 0.1), M(2.0, 0.1))
+    assert result.state == "unknown"
+    assert result.probabilities["RGB"] < 1e-6
+    leading = max(result.probabilities, key=result.probabilities.get)
+    assert f"state_most_likely_{leading}" in result.reasons
+    assert "state_core_helium_burning" in result.reasons
+    text = describe_state(result.state, result.probability, result.reasons)
+    assert text == (f"unknown (most likely {leading}, {result.probability:.2f}; "
+                    "core-helium burning: RC or 2CL)")
+    # Rival ΔΠ1 values that all lie in the clump overlap say the same.
+    tied = classify_state(M(4.8, 0.01), None, M(2.0, 0.1),
+                          dpi1_rivals=[M(245.0, 0.1), M(250.0, 0.1)])
+    assert tied.state == "unknown" and "state_core_helium_burning" in tied.reasons
+    # A star between the RGB (up to 100 s) and the secondary clump (from 140–150 s) is
+    # not flagged as core-helium burning.
+    between = classify_state(M(4.8, 0.01), M(115.0, 5.0), M(2.0, 0.1))
+    assert between.state == "unknown" and 0.1 < between.probabilities["RGB"] < 0.9
+    assert "state_core_helium_burning" not in between.reasons
+    # A decided state reads as itself.
+    clear = classify_state(M(4.1, 0.01), M(300.0, 1.0), M(1.2, 0.08))
+    assert describe_state(clear.state, clear.probability, clear.reasons) == (
+        f"RC (probability {clear.probability:.2f})")
+
+
+def test_without_dpi1_a_star_excluded_from_the_rgb_is_core_helium_burning():
+    # With an RGB region that starts at Δν = 6 μHz (a replacement set of regions), a star
+    # at Δν = 4.5 μHz can only be RC or 2CL: undecided, but core-helium burning.
+    regions = dict(STATE_REGIONS)
+    regions["RGB"] = replace(STATE_REGIONS["RGB"], dnu=(6.0, 20.0))
+    result = classify_state(M(4.5, 0.01), None, M(1.9, 0.05), regions=regions,
+                            mass_bias=0.0)
+    assert result.state == "unknown"
+    assert "state_core_helium_burning" in result.reasons
 
 
 def test_reasons_say_eps_is_not_used():
