@@ -206,10 +206,12 @@ def _robust_steps(model: _Model, p: np.ndarray, m: np.ndarray, free: np.ndarray,
     return p
 
 
-def _refine(model: _Model, start: np.ndarray, rotating: bool, rounds: int = 3) -> _Fit:
+def _refine(model: _Model, start: np.ndarray, rotating: bool, rounds: int = 3,
+            hold_rotation: bool = False) -> _Fit:
     """Robust fit of the implicit relation, azimuthal orders re-assigned
-    (up to ``rounds`` alternations of the fit and the assignment)."""
-    free = np.array([True, True, True, True, rotating])
+    (up to ``rounds`` alternations of the fit and the assignment); with
+    ``hold_rotation`` the splitting stays at its start value (its error is NaN)."""
+    free = np.array([True, True, True, True, rotating and not hold_rotation])
     p = np.clip(start.copy(), _LOWER, _UPPER)
     m = model.best_m(p) if rotating else np.zeros(model.freq.size, dtype=np.int64)
     for _ in range(rounds):  # alternate the fit and the assignment of m

@@ -27,6 +27,9 @@ __all__: list[str] = []
 # scan._local_starts) and starts refined per alias of the splitting.
 _ALIAS_PHASES = 8
 _ALIAS_STARTS = 2
+# Largest relative distance of a freely refitted alias splitting from the alias tried
+# (the aliases are at least a factor 1.5 or one g-mode spacing from the winner's).
+_ALIAS_DRIFT = 0.25
 
 
 def _splitting_alternatives(model: _Model, win: _Fit, numax: float) -> list[_Fit]:
@@ -40,8 +43,11 @@ def _splitting_alternatives(model: _Model, win: _Fit, numax: float) -> list[_Fit
     cycles of ΔΠ1, so ln ΔΠ1 resolves to 1/N); they are scored and the best
     `_ALIAS_STARTS` refined
     with the azimuthal orders re-assigned (the quick score of a start does not always
-    rank the basins right). Returns the fit without rotation first, then one fit per
-    alias (tens of milliseconds in all).
+    rank the basins right), first with the splitting held at the alias, then free.
+    A free refit that runs back to the winner's splitting (beyond `_ALIAS_DRIFT` of
+    the alias) says nothing about the alias; the held fit stands for it then. Returns
+    the fit without rotation first, then one fit per alias (tens of milliseconds in
+    all).
     """
     rot = float(win.params[4])
     spacing = numax**2 * float(win.params[0]) * 1e-6
@@ -52,8 +58,11 @@ def _splitting_alternatives(model: _Model, win: _Fit, numax: float) -> list[_Fit
             continue
         # ΔΠ1 one resolution element (four quarters) to either side, and at the winner's.
         starts = _local_starts(model, win, np.array([-4, 0, 4]), trial / rot, _ALIAS_PHASES)
-        fits = [_refine(model, p, True) for p in starts[:_ALIAS_STARTS]]
-        out.append(max(fits, key=lambda f: f.score))
+        held = max((_refine(model, p, True, hold_rotation=True)
+                    for p in starts[:_ALIAS_STARTS]), key=lambda f: f.score)
+        free = _refine(model, held.params, True)
+        near = abs(float(free.params[4]) / trial - 1.0) <= _ALIAS_DRIFT
+        out.append(free if near and free.score >= held.score else held)
     return out
 
 
@@ -71,9 +80,11 @@ def _splitting_ties(win: _Fit, alternatives: list[_Fit]) -> list[_Fit]:
 
 def _better_alias(win: _Fit, alternatives: list[_Fit]) -> _Fit | None:
     """A rotating alternative that scores higher than ``win`` and is itself usable
-    (a covariance and at least `_MIN_INLIERS` inliers), the best such; else None."""
+    (a covariance with the splitting free and at least `_MIN_INLIERS` inliers), the
+    best such; else None."""
     usable = [f for f in alternatives
               if f.rotating and f.score > win.score and f.cov is not None
+              and np.isfinite(f.cov[4, 4])
               and int(np.sum(f.inlier)) >= _MIN_INLIERS]
     return max(usable, key=lambda f: f.score) if usable else None
 
