@@ -357,12 +357,13 @@ def test_splitting_equal_to_the_g_mode_spacing_gives_no_confident_wrong_dpi1(see
     if result.dpi1 is None:
         assert "dpi1_rotation" in result.flags
         assert result.q is None and result.rot_core is None
-        # The withdrawn rotating solution and its refit without rotation still bracket
-        # ΔΠ1 within a few per cent (aliases of the m-assignment lie about one
-        # resolution element away), both in the red-clump region (240–360 s; Mosser et
-        # al. 2014, Vrard et al. 2016, from memory).
+        # The withdrawn rotating solution and its refit without rotation (split-half
+        # check), or the winner and the aliases of its splitting that tie with it
+        # (alias check), still bracket ΔΠ1 within a few per cent (aliases of the
+        # m-assignment lie about one resolution element away), all in the red-clump
+        # region (240–360 s; Mosser et al. 2014, Vrard et al. 2016, from memory).
         rivals = result.dpi1_rivals
-        assert len(rivals) == 2 and all(abs(r.value / 330.0 - 1.0) < 0.03 for r in rivals)
+        assert len(rivals) >= 2 and all(abs(r.value / 330.0 - 1.0) < 0.03 for r in rivals)
         state = classify_state(Measurement(4.1, 0.02), dpi1_rivals=rivals)
         assert state.state == "RC"
     else:
