@@ -30,6 +30,7 @@ from seismo.errors import InputError, OptionError
 from seismo.results import MEASUREMENT_FIELDS, StarResult
 from seismo.simulate import OBSERVATIONS, PRESETS, simulate, write_simulation
 from seismo.survey import (
+    CORE_HELIUM_UNKNOWN,
     LEDGER_NAME,
     Job,
     LocalExecutor,
@@ -42,6 +43,7 @@ from seismo.survey import (
     open_ledger,
     run_survey,
     star_seed,
+    summarize_ledger,
     write_catalog,
 )
 
@@ -117,6 +119,19 @@ def test_ledger_put_get_replace(ledger) -> None:
     assert ledger.counts() == {"done": 2, "failed": 0, "skipped": 0}
     ledger.set_meta("config", {"x": [1, 2]})
     assert ledger.get_meta("config") == {"x": [1, 2]} and ledger.get_meta("none") is None
+
+
+def test_summary_counts_undecided_core_helium_burners_apart(ledger) -> None:
+    # A star undecided between RC and 2CL is still certainly not on the RGB
+    # (seismo.state: flag state_core_helium_burning); the summary says so.
+    rows = [("/a", "RC", []), ("/b", "unknown", ["state_ambiguous", "state_core_helium_burning"]),
+            ("/c", "unknown", ["state_without_dpi1"]), ("/d", "RC", [])]
+    for path, state, flags in rows:
+        ledger.put(StarRecord(path, "done", "h", checksum=f"sha256:{path}",
+                              result_json=json.dumps({"state": state, "flags": flags})))
+    summary = summarize_ledger(ledger)
+    assert summary.by_state == {"RC": 2, CORE_HELIUM_UNKNOWN: 1, "unknown": 1}
+    assert f"{CORE_HELIUM_UNKNOWN} 1" in summary.to_text()
 
 
 @pytest.mark.parametrize("order", [("/b", "/a"), ("/a", "/b")])

@@ -42,10 +42,11 @@ from .ledger import (
     StarRecord,
     open_ledger,
 )
-from .runner import SurveySummary, plan_survey, run_survey, summarize_ledger
+from .runner import CORE_HELIUM_UNKNOWN, SurveySummary, plan_survey, run_survey, summarize_ledger
 
 __all__ = [
     "run_survey", "SurveySummary", "summarize_ledger", "plan_survey", "collect_stars",
+    "CORE_HELIUM_UNKNOWN",
     "StarTask", "load_config", "analyze_one", "star_seed", "Job", "SerialExecutor", "LocalExecutor",
     "DaskExecutor", "StarTimeoutError", "WorkerLostError", "StarRecord", "Ledger",
     "MemoryLedger", "SQLiteLedger", "open_ledger", "LEDGER_NAME", "STATUSES",

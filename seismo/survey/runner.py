@@ -27,7 +27,11 @@ from .executors import DaskExecutor, Job, LocalExecutor, SerialExecutor
 from .inputs import StarTask, collect_stars
 from .ledger import STATUSES, Ledger, StarRecord, open_ledger
 
-__all__ = ["SurveySummary", "run_survey", "summarize_ledger", "plan_survey"]
+__all__ = ["SurveySummary", "run_survey", "summarize_ledger", "plan_survey",
+           "CORE_HELIUM_UNKNOWN"]
+
+#: Key of `SurveySummary.by_state` for undecided stars that are RC or 2CL.
+CORE_HELIUM_UNKNOWN = "unknown (RC or 2CL)"
 
 
 @dataclass
@@ -45,7 +49,9 @@ class SurveySummary:
     by_status : dict
         Ledger records by status (done, failed, skipped), for the listed stars.
     by_state : dict
-        Done stars by evolutionary state.
+        Done stars by evolutionary state; undecided stars that are certainly core-helium
+        burning (flag ``state_core_helium_burning``) are counted apart, under
+        `CORE_HELIUM_UNKNOWN`.
     slowest : list of (str, float)
         Paths and wall times (s) of the slowest stars.
     failure_reasons : list of (str, int)
@@ -115,7 +121,11 @@ def summarize_ledger(ledger: Ledger, paths: Sequence[str] | None = None, *, n_sl
     for rec in records:
         by_status[rec.status] += 1
         if rec.status == "done":
-            states[(rec.result() or {}).get("state") or "unknown"] += 1
+            result = rec.result() or {}
+            state = result.get("state") or "unknown"
+            if state == "unknown" and "state_core_helium_burning" in (result.get("flags") or ()):
+                state = CORE_HELIUM_UNKNOWN  # RGB excluded, the clump undecided
+            states[state] += 1
         elif rec.status == "failed":
             reasons[_short_reason(rec)] += 1
     slowest = sorted(records, key=lambda r: -r.seconds)[:n_slowest]
