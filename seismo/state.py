@@ -274,7 +274,6 @@ def classify_state(
     return StateResult("unknown", None, {}, tuple(reasons))
 
 
-
 def describe_state(state: str, probability: float | None, reasons: Sequence[str]) -> str:
     """One line for people: the state and its probability; for an undecided star, its
     most likely state and whether it is certainly core-helium burning.
