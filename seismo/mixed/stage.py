@@ -175,7 +175,8 @@ def measure_mixed_modes(
        Jacobian of the inliers, scaled by the reduced χ² when it exceeds 1.
     5. A rotating winner is refitted without rotation and at the aliases of
        its splitting δν (δν/2, 2δν, δν ± ν_max²ΔΠ1, each also with ΔΠ1 moved
-       by one resolution element; `seismo.mixed.splitting`);
+       by one resolution element, and fitted first with the splitting held at
+       the alias; `seismo.mixed.splitting`);
        an alias that scores higher replaces it. If the fit without rotation
        or an alias with another splitting comes within `_SPLITTING_MARGIN` of
        its score, δν_rot,core is not reported (``rot_core_ambiguous``) and the
