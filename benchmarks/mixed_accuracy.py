@@ -47,6 +47,7 @@ from seismo import relations
 from seismo.config import StarInputs
 from seismo.pipeline import analyze
 from seismo.simulate import OBSERVATIONS, PRESETS, simulate, write_simulation
+from seismo.state import core_helium_burning
 
 SUN = (3090.0, 135.1, 5777.0)  # the default solar reference set (Huber et al. 2011)
 
@@ -177,8 +178,8 @@ def summary(rows: list[dict], label: str) -> None:
     print(f"{'wrong state with probability > 0.9':46s}{wrong_confident:16d}{'0':>12s}")
     # The first question behind the labels: RGB or core-helium burning (RC or 2CL), which
     # an undecided star in the clump overlap answers with `state_core_helium_burning`.
-    phase = [("core-He" if r["state"] in ("RC", "2CL") or "state_core_helium_burning"
-              in r["flags"] else r["state"]) for r in rows]
+    phase = ["core-He" if core_helium_burning(r["state"], r["flags"]) else r["state"]
+             for r in rows]
     phase_true = ["RGB" if r["state_true"] == "RGB" else "core-He" for r in rows]
     given = [(p, t) for p, t in zip(phase, phase_true, strict=True) if p != "unknown"]
     print(f"{'RGB or core-He burning given':46s}{len(given):>9d} of {len(rows):<4d}")

@@ -53,12 +53,14 @@ from .errors import OptionError
 from .results import Measurement
 
 __all__ = ["StateRegion", "STATE_REGIONS", "StateResult", "classify_state", "REPORT_THRESHOLD",
-           "CORE_HELIUM_BURNING", "describe_state"]
+           "CORE_HELIUM_BURNING", "CORE_HELIUM_FLAG", "core_helium_burning", "describe_state"]
 
 #: Smallest probability at which a state is reported rather than "unknown".
 REPORT_THRESHOLD = 0.9
 #: The core-helium-burning states; together against the RGB when neither alone is certain.
 CORE_HELIUM_BURNING = ("RC", "2CL")
+#: Reason (and result flag) of an undecided star that is certainly RC or 2CL.
+CORE_HELIUM_FLAG = "state_core_helium_burning"
 
 
 @dataclass(frozen=True)
@@ -171,7 +173,7 @@ def _undecided(probs: list[dict[str, float]]) -> list[str]:
     worst = min(probs, key=lambda pr: max(pr.values()))
     out = [f"state_most_likely_{max(worst, key=worst.get)}"]
     if min(clump) >= REPORT_THRESHOLD:
-        out.append("state_core_helium_burning")
+        out.append(CORE_HELIUM_FLAG)
     return out
 
 
@@ -251,7 +253,7 @@ def classify_state(
                 return StateResult(best, worst[best], worst, tuple(reasons))
         reasons.append("state_dpi1_rivals_disagree")
         if all(pr is not None for pr in each):
-            reasons += [r for r in _undecided(each) if r == "state_core_helium_burning"]
+            reasons += [r for r in _undecided(each) if r == CORE_HELIUM_FLAG]
 
     # No period spacing: use Δν and mass only to exclude states.
     distance = {
@@ -269,9 +271,27 @@ def classify_state(
         return StateResult(allowed[0], probs[allowed[0]], probs, tuple(reasons))
     reasons.append("state_not_separable_without_dpi1")
     if allowed and set(allowed) <= set(CORE_HELIUM_BURNING) \
-            and "state_core_helium_burning" not in reasons:
-        reasons.append("state_core_helium_burning")
+            and CORE_HELIUM_FLAG not in reasons:
+        reasons.append(CORE_HELIUM_FLAG)
     return StateResult("unknown", None, {}, tuple(reasons))
+
+
+def core_helium_burning(state: str, flags: Sequence[str]) -> bool:
+    """Whether a classified star burns helium in its core: state RC or 2CL, or undecided
+    between them (`CORE_HELIUM_FLAG` among its reasons or result flags).
+
+    Parameters
+    ----------
+    state : str
+        ``"RGB"``, ``"RC"``, ``"2CL"`` or ``"unknown"``.
+    flags : sequence of str
+        `StateResult.reasons`, or the flags of a result (which include them).
+
+    Returns
+    -------
+    bool
+    """
+    return state in CORE_HELIUM_BURNING or CORE_HELIUM_FLAG in flags
 
 
 def describe_state(state: str, probability: float | None, reasons: Sequence[str]) -> str:
@@ -300,6 +320,6 @@ def describe_state(state: str, probability: float | None, reasons: Sequence[str]
               if r.startswith("state_most_likely_")]
     if likely and probability is not None:
         notes.append(f"most likely {likely[0]}, {probability:.2f}")
-    if "state_core_helium_burning" in reasons:
+    if CORE_HELIUM_FLAG in reasons:
         notes.append("core-helium burning: RC or 2CL")
     return "unknown" + (f" ({'; '.join(notes)})" if notes else "")

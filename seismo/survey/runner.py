@@ -23,6 +23,7 @@ from typing import Any, TextIO
 from ..config import AnalysisConfig
 from ..errors import OptionError
 from ..pipeline import file_checksum
+from ..state import core_helium_burning
 from .executors import DaskExecutor, Job, LocalExecutor, SerialExecutor
 from .inputs import StarTask, collect_stars
 from .ledger import STATUSES, Ledger, StarRecord, open_ledger
@@ -123,7 +124,7 @@ def summarize_ledger(ledger: Ledger, paths: Sequence[str] | None = None, *, n_sl
         if rec.status == "done":
             result = rec.result() or {}
             state = result.get("state") or "unknown"
-            if state == "unknown" and "state_core_helium_burning" in (result.get("flags") or ()):
+            if state == "unknown" and core_helium_burning(state, result.get("flags") or ()):
                 state = CORE_HELIUM_UNKNOWN  # RGB excluded, the clump undecided
             states[state] += 1
         elif rec.status == "failed":
