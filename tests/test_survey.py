@@ -37,6 +37,7 @@ from seismo.survey import (
     MemoryLedger,
     SQLiteLedger,
     StarRecord,
+    analyze_one,
     catalog_tables,
     collect_stars,
     load_config,
@@ -462,3 +463,22 @@ def test_results_parse_as_star_results(reference) -> None:
     for rec in reference.values():
         if rec.status == "done":
             assert StarResult.from_json(rec.result_json).to_dict() == json.loads(rec.result_json)
+
+
+def test_timeout_while_reading_is_not_an_unreadable_file(star_dir: Path, monkeypatch) -> None:
+    # The reader turns any Exception from astropy into "not a readable FITS light curve";
+    # a time limit that runs out while the file is read (a slow disk, a busy node) must
+    # still be recorded as a timeout, not as a damaged file. Common practice: a timer
+    # signal's exception must not be caught by ordinary error handling (like Ctrl-C).
+    from astropy.io import fits
+
+    real_open = fits.open
+
+    def slow_open(*args, **kwargs):
+        time.sleep(0.2)  # the 0.05-s alarm fires in here
+        return real_open(*args, **kwargs)
+
+    monkeypatch.setattr(fits, "open", slow_open)
+    outcome = analyze_one(str(star_dir / "star00.fits"), AnalysisConfig(), StarInputs(), 0,
+                          timeout=0.05)
+    assert outcome["error_class"] == "StarTimeoutError", outcome["error_message"]

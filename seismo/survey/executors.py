@@ -28,8 +28,13 @@ __all__ = ["Job", "analyze_one", "star_seed", "SerialExecutor", "LocalExecutor",
            "StarTimeoutError", "WorkerLostError", "QUIET_WORKER_CONFIG"]
 
 
-class StarTimeoutError(TimeoutError):
-    """The analysis of one star took longer than the per-star time limit."""
+class StarTimeoutError(BaseException):
+    """The analysis of one star took longer than the per-star time limit.
+
+    Derived from BaseException, like KeyboardInterrupt, because it is raised by a
+    timer signal anywhere in the analysis: code that turns any Exception into its own
+    error (the light-curve readers, third-party libraries) must not swallow it.
+    """
 
 
 class WorkerLostError(RuntimeError):
