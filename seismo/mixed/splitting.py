@@ -126,15 +126,15 @@ def _split_rotation(model: _Model, win: _Fit, numax: float) -> list[list[float]]
         out.append([float(fit.params[4]), float(np.sqrt(fit.cov[4, 4]))])
     return out
 
+
 def _holds_without_rotation(model: _Model, win: _Fit, dpi1_error: float,
                             inputs: dict[str, Any], min_score: float) -> bool:
     """Whether the ΔΠ1 of a rotating fit whose splitting is unstable stands without it.
 
     The rotating solution is refitted with no splitting (every peak m = 0). Its
     ΔΠ1 is kept only if that fit alone passes ``min_score`` (the ordinary threshold
-    of the pass) and agrees with the
-    rotating ΔΠ1 within 3 combined sigmas; otherwise the period spacing rests on
-    an m-assignment the split-half check has rejected. ``inputs`` gets
+    of the pass) and agrees with the rotating ΔΠ1 within 3 combined sigmas; otherwise
+    the period spacing rests on an m-assignment the split-half check has rejected. ``inputs`` gets
     ``dpi1_without_rotation`` = [ΔΠ1 (s), error (s), score].
     """
     still = _refine(model, win.params, False)
@@ -146,6 +146,7 @@ def _holds_without_rotation(model: _Model, win: _Fit, dpi1_error: float,
     tolerance = 3.0 * float(np.hypot(still_error, dpi1_error))
     return bool(still.score >= min_score
                 and abs(still.params[0] - win.params[0]) <= tolerance)
+
 
 def _unstable_rivals(win: _Fit, dpi1_error: float, inputs: dict[str, Any]
                      ) -> tuple[Measurement, ...]:
@@ -163,6 +164,7 @@ def _unstable_rivals(win: _Fit, dpi1_error: float, inputs: dict[str, Any]
            Measurement(float(value), float(still_error)))
     inputs["dpi1_rivals"] = [[m.value, m.error] for m in out]
     return out
+
 
 def _halves_agree(halves: list[list[float]], rot: float, err: float) -> bool:
     """Both halves within 3 combined sigmas of each other and of the whole."""
